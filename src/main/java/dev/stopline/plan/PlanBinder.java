@@ -34,14 +34,25 @@ final class PlanBinder {
     private static final double MAX_EXACT = 9.007199254740992E15;
 
     private final List<PlanProblem> problems = new ArrayList<>();
+    private final Set<String> unusable = new java.util.HashSet<>();
 
     List<PlanProblem> problems() {
         return problems;
     }
 
+    /** Paths whose value was present but unusable (and so bound as null): semantic checks there are moot. */
+    Set<String> unusable() {
+        return unusable;
+    }
+
+    private void bad(String path, String rule) {
+        problems.add(new PlanProblem(path, rule));
+        unusable.add(path);
+    }
+
     Plan plan(JsonNode root) {
         if (!root.isObject()) {
-            problems.add(new PlanProblem(PlanProblem.DOCUMENT, "must be a mapping of keys to values, got " + kind(root)));
+            bad(PlanProblem.DOCUMENT, "must be a mapping of keys to values, got " + kind(root));
             return null;
         }
         keysKnown(root, "", ROOT_KEYS);
@@ -105,24 +116,25 @@ final class PlanBinder {
         if (n.isIntegralNumber()) {
             long k = n.asLong();
             if (!n.canConvertToLong() || k < 1 || k > Looks.MAX_LOOKS) {
-                problems.add(new PlanProblem(at, "number of looks must be in [1, " + Looks.MAX_LOOKS + "], got " + n));
+                bad(at, "number of looks must be in [1, " + Looks.MAX_LOOKS + "], got " + n);
                 return null;
             }
             return Looks.equallySpaced((int) k);
         }
         if (!n.isArray()) {
-            problems.add(new PlanProblem(at,
-                    "must be a list of information fractions or an integer number of looks, got " + kind(n)));
+            bad(at,
+                    "must be a list of information fractions or an integer number of looks, got " + kind(n));
             return null;
         }
         if (n.size() == 0 || n.size() > Looks.MAX_LOOKS) {
-            problems.add(new PlanProblem(at, "must hold 1 to " + Looks.MAX_LOOKS + " looks, got " + n.size()));
+            bad(at, "must hold 1 to " + Looks.MAX_LOOKS + " looks, got " + n.size());
             return null;
         }
         List<Double> t = new ArrayList<>();
         for (int i = 0; i < n.size(); i++) {
             if (!n.get(i).isNumber()) {
-                problems.add(new PlanProblem(at + "[" + i + "]", "must be a number, got " + kind(n.get(i))));
+                bad(at + "[" + i + "]", "must be a number, got " + kind(n.get(i)));
+                unusable.add(at);
                 return null;
             }
             t.add(n.get(i).doubleValue());
@@ -165,7 +177,7 @@ final class PlanBinder {
             return List.of();
         }
         if (!g.isArray()) {
-            problems.add(new PlanProblem("guardrails", "must be a list, got " + kind(g)));
+            bad("guardrails", "must be a list, got " + kind(g));
             return List.of();
         }
         List<Guardrail> out = new ArrayList<>();
@@ -173,7 +185,8 @@ final class PlanBinder {
             String at = "guardrails[" + i + "]";
             JsonNode n = g.get(i);
             if (!n.isObject()) {
-                problems.add(new PlanProblem(at, "must be a mapping, got " + kind(n)));
+                bad(at, "must be a mapping, got " + kind(n));
+                out.add(new Guardrail(null, null, null, null, null, null, null)); // keeps the indices of later items
                 continue;
             }
             keysKnown(n, at, GUARDRAIL_KEYS);
@@ -199,7 +212,7 @@ final class PlanBinder {
         for (Iterator<String> it = obj.fieldNames(); it.hasNext(); ) {
             String k = it.next();
             if (!known.contains(k)) {
-                problems.add(new PlanProblem(join(at, k), "unknown key" + Suggest.hint(k, known)));
+                problems.add(new PlanProblem(join(at, k), "unknown key" + Suggest.hint(k, known))); // binds nothing
             }
         }
     }
@@ -210,7 +223,7 @@ final class PlanBinder {
             return null;
         }
         if (!n.isObject()) {
-            problems.add(new PlanProblem(join(at, key), "must be a mapping, got " + kind(n)));
+            bad(join(at, key), "must be a mapping, got " + kind(n));
             return null;
         }
         return n;
@@ -222,7 +235,7 @@ final class PlanBinder {
             return null;
         }
         if (!n.isTextual()) {
-            problems.add(new PlanProblem(join(at, key), "must be a string, got " + kind(n)));
+            bad(join(at, key), "must be a string, got " + kind(n));
             return null;
         }
         return n.textValue();
@@ -234,7 +247,7 @@ final class PlanBinder {
             return null;
         }
         if (!n.isNumber()) {
-            problems.add(new PlanProblem(join(at, key), "must be a number, got " + kind(n)));
+            bad(join(at, key), "must be a number, got " + kind(n));
             return null;
         }
         return n.doubleValue();
@@ -247,7 +260,7 @@ final class PlanBinder {
         }
         double d = n.isNumber() ? n.doubleValue() : Double.NaN;
         if (!(Math.abs(d) <= MAX_EXACT) || d != Math.rint(d)) {
-            problems.add(new PlanProblem(join(at, key), "must be a whole number, got " + kind(n)));
+            bad(join(at, key), "must be a whole number, got " + kind(n));
             return null;
         }
         return (long) d;
@@ -259,7 +272,7 @@ final class PlanBinder {
             return null;
         }
         if (!n.isBoolean()) {
-            problems.add(new PlanProblem(join(at, key), "must be true or false, got " + kind(n)));
+            bad(join(at, key), "must be true or false, got " + kind(n));
             return null;
         }
         return n.booleanValue();
@@ -276,8 +289,8 @@ final class PlanBinder {
             }
         }
         List<String> names = Arrays.stream(values).map(keyOf).collect(Collectors.toList());
-        problems.add(new PlanProblem(join(at, key), "must be one of " + String.join(", ", names) + ", got \""
-                + s + "\"" + Suggest.hint(s, names)));
+        bad(join(at, key), "must be one of " + String.join(", ", names) + ", got \""
+                + s + "\"" + Suggest.hint(s, names));
         return null;
     }
 

@@ -15,7 +15,9 @@ import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
+import java.util.HashSet;
 import java.util.List;
+import java.util.Set;
 import org.yaml.snakeyaml.LoaderOptions;
 
 /**
@@ -28,7 +30,7 @@ import org.yaml.snakeyaml.LoaderOptions;
  * (YAML would otherwise keep the last one silently), a single YAML document per file.
  *
  * <p>Every problem is reported at once: structural problems found while binding and semantic ones
- * from {@link PlanValidator}; a semantic problem on a path already reported structurally is dropped,
+ * from {@link PlanValidator}; a semantic problem on a path whose value had the wrong type is dropped,
  * so that {@code alpha: "0.05"} gives one line, not "wrong type" and then "required".
  */
 public final class PlanParser {
@@ -60,9 +62,10 @@ public final class PlanParser {
     /** Reads and validates a plan; throws {@link PlanException} listing every problem. */
     public static Plan parse(byte[] document, Format format) {
         List<PlanProblem> problems = new ArrayList<>();
-        Plan plan = bind(document, format, problems);
+        Set<String> unusable = new HashSet<>();
+        Plan plan = bind(document, format, problems, unusable);
         if (plan != null) {
-            mergeSemantic(problems, PlanValidator.validate(plan));
+            mergeSemantic(problems, unusable, PlanValidator.validate(plan));
         }
         if (!problems.isEmpty()) {
             throw new PlanException(problems);
@@ -88,7 +91,7 @@ public final class PlanParser {
         }
     }
 
-    private static Plan bind(byte[] document, Format format, List<PlanProblem> problems) {
+    private static Plan bind(byte[] document, Format format, List<PlanProblem> problems, Set<String> unusable) {
         if (document.length > MAX_BYTES) {
             problems.add(new PlanProblem(PlanProblem.DOCUMENT,
                     "larger than " + MAX_BYTES + " bytes; a stopping plan is a page of YAML"));
@@ -101,6 +104,7 @@ public final class PlanParser {
         PlanBinder binder = new PlanBinder();
         Plan plan = binder.plan(root);
         problems.addAll(binder.problems());
+        unusable.addAll(binder.unusable());
         return plan;
     }
 
@@ -130,22 +134,21 @@ public final class PlanParser {
         }
     }
 
-    /** Drops a semantic problem when its path, or a path inside or above it, was already reported. */
-    private static void mergeSemantic(List<PlanProblem> structural, List<PlanProblem> semantic) {
-        List<String> seen = structural.stream().map(PlanProblem::path).toList();
+    /**
+     * Adds the semantic problems, except those at or inside a path whose value was present but
+     * unusable: that value was bound as null, so "required" there would repeat the type problem.
+     */
+    private static void mergeSemantic(List<PlanProblem> structural, Set<String> unusable,
+            List<PlanProblem> semantic) {
         for (PlanProblem p : semantic) {
-            if (seen.stream().noneMatch(s -> related(s, p.path()))) {
+            if (unusable.stream().noneMatch(u -> p.path().equals(u) || isUnder(p.path(), u))) {
                 structural.add(p);
             }
         }
     }
 
-    private static boolean related(String a, String b) {
-        return a.equals(b) || isUnder(a, b) || isUnder(b, a);
-    }
-
     private static boolean isUnder(String child, String parent) {
-        return child.startsWith(parent) && (child.charAt(parent.length()) == '.' || child.charAt(parent.length()) == '[');
+        return child.length() > parent.length() && child.startsWith(parent) && (child.charAt(parent.length()) == '.' || child.charAt(parent.length()) == '[');
     }
 
     private static boolean looksLikeJson(byte[] d) {

@@ -10,7 +10,7 @@ import java.util.regex.Pattern;
  * The semantic rules of a stopping plan. {@link #validate(Plan)} returns every broken rule, each as a
  * {@link PlanProblem} whose rule text states what is required and what was found.
  *
- * <p>Rules: ranges of every level and rate; allocation weights in (0, 1) summing to 1 (within
+ * <p>Rules: ranges of every level and rate; allocation weights &gt; 0 summing to 1 (within
  * {@value #SUM_TOLERANCE}); control an arm of the allocation; for group-sequential exactly one of
  * spending and boundary, looks strictly increasing in (0, 1] ending at 1, a classical boundary only
  * with equally spaced looks; sizing complete (maxUnitsPerArm, or power with minimumEffect and the
@@ -118,7 +118,7 @@ public final class PlanValidator {
             if (!NAME.matcher(e.getKey()).matches()) {
                 add(at, "arm name must match " + NAME.pattern());
             }
-            complete &= required(at, e.getValue()) && openUnit(at, e.getValue());
+            complete &= required(at, e.getValue()) && positive(at, e.getValue());
             sum += e.getValue() == null ? 0 : e.getValue();
         }
         if (complete && a.size() >= 2 && Math.abs(sum - 1) > SUM_TOLERANCE) {
@@ -255,8 +255,9 @@ public final class PlanValidator {
             return;
         }
         if (p.power() == null) {
-            add("primary", "sizing needs maxUnitsPerArm, or power with minimumEffect and "
-                    + (type == null ? "the baseline" : proportion ? "baselineRate" : "baselineMean and sd"));
+            add("primary.maxUnitsPerArm", "required, or power with minimumEffect and "
+                    + (type == null ? "the baseline" : proportion ? "baselineRate" : "baselineMean and sd")
+                    + " to size from");
             return;
         }
         String why = "required to size from power";
@@ -362,10 +363,12 @@ public final class PlanValidator {
         return false;
     }
 
-    private void positive(String at, double x) {
-        if (!(x > 0 && x < Double.POSITIVE_INFINITY)) {
-            add(at, "must be finite and > 0, got " + num(x));
+    private boolean positive(String at, double x) {
+        if (x > 0 && x < Double.POSITIVE_INFINITY) {
+            return true;
         }
+        add(at, "must be finite and > 0, got " + num(x));
+        return false;
     }
 
     private boolean name(String at, String name) {
