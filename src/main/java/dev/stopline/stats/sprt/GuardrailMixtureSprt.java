@@ -180,9 +180,17 @@ public final class GuardrailMixtureSprt {
             this.harmLowerBound = harmLowerBound;
         }
 
+        /**
+         * The state after a look. The root finding for this look's bound is skipped when it cannot raise
+         * the running maximum: {@code x* >= w(2 alpha)}, the closed-form two-sided half-width at
+         * {@code 2 alpha}, so {@code s d - w(2 alpha) <= max} settles it (exact, not an approximation).
+         */
         public State update(double difference, double variance) {
             double p = Math.min(pValue, test.lookPValue(difference, variance));
-            double lower = Math.max(harmLowerBound, test.harmLowerBound(difference, variance));
+            double harm = test.direction.harm(difference);
+            double ceiling = harm - MixtureSprt.halfWidth(variance, test.tauSquared, test.logThreshold - LN2);
+            double lower = ceiling <= harmLowerBound ? harmLowerBound
+                    : Math.max(harmLowerBound, harm - test.criticalExcess(variance));
             return new State(test, looks + 1, p, lower);
         }
 
