@@ -18,10 +18,7 @@ public final class Main {
     }
 
     public static void main(String... args) {
-        int code = commandLine().execute(args);
-        if (code != 0 || !ServeCommand.ranServer()) {
-            System.exit(code);
-        }
+        System.exit(commandLine().execute(args));
     }
 
     /** The command tree, shared by the jar and by the tests. */

@@ -4,22 +4,18 @@ import io.quarkus.runtime.Quarkus;
 import io.quarkus.runtime.QuarkusApplication;
 import java.util.concurrent.Callable;
 import picocli.CommandLine.Command;
+import picocli.CommandLine.Mixin;
 
 /** {@code serve}: the long-running monitoring daemon. */
 @Command(name = "serve", mixinStandardHelpOptions = true,
         description = "Run the monitoring daemon: Kafka consumer, REST API, status page, alerts.")
 public final class ServeCommand implements Callable<Integer> {
-    private static volatile boolean ranServer;
-
-    static boolean ranServer() {
-        return ranServer;
-    }
+    @Mixin
+    DaemonOptions daemon = new DaemonOptions();
 
     @Override
     public Integer call() {
-        ranServer = true;
-        Quarkus.run(Daemon.class);
-        return 0;
+        return daemon.launch(Daemon.class, daemon.dataDir);
     }
 
     /** The Quarkus application: runs until SIGTERM/SIGINT. */

@@ -156,8 +156,8 @@ public final class GuardrailMixtureSprt {
 
     /** A state remembered from earlier looks: the running minimum p-value and maximum lower bound continue. */
     public State resume(long looks, double pValue, double harmLowerBound) {
-        if (!(looks >= 0 && pValue > 0 && pValue <= 1)) {
-            throw new StatsException("resumed state needs looks >= 0 and p-value in (0, 1], got %d and %s",
+        if (!(looks >= 0 && pValue >= 0 && pValue <= 1)) {
+            throw new StatsException("resumed state needs looks >= 0 and p-value in [0, 1], got %d and %s",
                     looks, pValue);
         }
         return new State(this, looks, pValue, harmLowerBound);

@@ -137,8 +137,8 @@ public final class MixtureSprt {
      * snapshots). The running minimum and the running intersection continue from these values.
      */
     public State resume(long looks, double pValue, Interval interval) {
-        if (!(looks >= 0 && pValue > 0 && pValue <= 1)) {
-            throw new StatsException("resumed state needs looks >= 0 and p-value in (0, 1], got %d and %s",
+        if (!(looks >= 0 && pValue >= 0 && pValue <= 1)) {
+            throw new StatsException("resumed state needs looks >= 0 and p-value in [0, 1], got %d and %s",
                     looks, pValue);
         }
         return new State(this, looks, pValue, interval, Double.NEGATIVE_INFINITY);
