@@ -5,13 +5,16 @@ import java.util.Map;
 
 /**
  * Points a {@code @QuarkusTest} daemon at the real embedded broker shared by the test run
- * ({@link KafkaBrokerExtension#shared()}); the broker outlives the Quarkus application and is closed
- * with the JUnit run.
+ * ({@link KafkaBrokerExtension#shared()}) and sends its webhooks to the shared {@link WebhookReceiver};
+ * the broker outlives the Quarkus application and is closed with the JUnit run.
  */
 public final class KafkaTestResource implements QuarkusTestResourceLifecycleManager {
     @Override
     public Map<String, String> start() {
-        return Map.of("kafka.bootstrap.servers", KafkaBrokerExtension.bootstrapServers());
+        return Map.of("kafka.bootstrap.servers", KafkaBrokerExtension.bootstrapServers(),
+                "stopline.webhooks.urls", WebhookReceiver.shared().url(),
+                "stopline.webhooks.secret", WebhookReceiver.SECRET,
+                "stopline.webhooks.retry-later", "PT1S");
     }
 
     @Override
