@@ -147,20 +147,20 @@ public final class SampleSize {
     public static long groupSequential(double fixedN, double inflationFactor) {
         Check.positive("fixed sample size", fixedN);
         Check.positive("inflation factor", inflationFactor);
-        return ceilUnits(inflationFactor * fixedN);
+        return roundUp(inflationFactor * fixedN);
     }
 
     /** {@code ceil(t * maxN)}: cumulative units at information fraction {@code t}. */
     public static long atFraction(double t, long maxN) {
         Check.positive("information fraction", t);
-        return ceilUnits(t * maxN);
+        return roundUp(t * maxN);
     }
 
     /**
      * Rounds up, after removing relative floating-point noise below 1e-12 so that an exact 100 computed
      * as 100.00000000001 stays 100.
      */
-    static long ceilUnits(double n) {
+    public static long roundUp(double n) {
         if (!(n < 9.0e15)) {
             throw new StatsException("sample size %s is too large to count", n);
         }
@@ -175,11 +175,11 @@ public final class SampleSize {
      */
     public record Arms(double control, double treatment) {
         public long controlUnits() {
-            return ceilUnits(control);
+            return roundUp(control);
         }
 
         public long treatmentUnits() {
-            return ceilUnits(treatment);
+            return roundUp(treatment);
         }
 
         /** The larger of the two arms, rounded up; at a 50/50 split this is "per arm". */
