@@ -174,6 +174,21 @@ final class GridRecursion {
         started = true;
     }
 
+    /**
+     * Closes the current look with the continuation region of a design: one-sided
+     * {@code (futility, efficacy)} (futility NaN means none); two-sided {@code (-efficacy, efficacy)}
+     * minus the inner futility region {@code [-futility, futility]} when futility &gt; 0.
+     */
+    void endLook(int sides, double efficacy, double futility) {
+        if (sides == 1) {
+            endLook(futility == futility ? futility : Double.NEGATIVE_INFINITY, efficacy, Double.NaN, Double.NaN);
+        } else if (futility > 0) {
+            endLook(-efficacy, -futility, futility, efficacy);
+        } else {
+            endLook(-efficacy, efficacy, Double.NaN, Double.NaN);
+        }
+    }
+
     /** P(continue past the last closed look): the integral of its sub-density. */
     double continuationMass() {
         double s = 0;

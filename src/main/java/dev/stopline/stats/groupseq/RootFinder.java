@@ -22,6 +22,8 @@ final class RootFinder {
     private final double fTol;
     private final int maxEvaluations;
     private int evaluations;
+    private int total;
+    private int worst;
 
     RootFinder(double xTol, double fTol, int maxEvaluations) {
         this.xTol = xTol;
@@ -30,14 +32,26 @@ final class RootFinder {
     }
 
     /** Evaluations used by all solves of this instance so far. */
-    int evaluations() {
-        return evaluations;
+    int totalEvaluations() {
+        return total;
+    }
+
+    /** The largest number of evaluations a single solve of this instance needed. */
+    int worstSolveEvaluations() {
+        return worst;
+    }
+
+    /** The budget of one solve. */
+    int maxEvaluations() {
+        return maxEvaluations;
     }
 
     private double eval(DoubleUnaryOperator f, double x) {
         if (++evaluations > maxEvaluations) {
-            throw new StatsException("root finder exceeded its budget of %d function evaluations", maxEvaluations);
+            throw new StatsException("root finder exceeded its budget of %d function evaluations per solve", maxEvaluations);
         }
+        total++;
+        worst = Math.max(worst, evaluations);
         double y = f.applyAsDouble(x);
         if (y != y) {
             throw new StatsException("root finder met NaN at x = %s", x);
@@ -51,6 +65,7 @@ final class RootFinder {
      * {@code ceiling} when {@code f(ceiling) > 0} (the root lies beyond the limits).
      */
     double solveDecreasing(DoubleUnaryOperator f, double guess, double step, double floor, double ceiling) {
+        evaluations = 0;
         double x0 = Math.min(ceiling, Math.max(floor, guess));
         double f0 = eval(f, x0);
         if (Math.abs(f0) <= fTol) {
@@ -74,6 +89,7 @@ final class RootFinder {
 
     /** Brent's zeroin on a bracket {@code f(a) f(b) <= 0}. */
     double solve(DoubleUnaryOperator f, double a, double b) {
+        evaluations = 0;
         double fa = eval(f, a);
         double fb = eval(f, b);
         if ((fa > 0) == (fb > 0) && fa != 0 && fb != 0) {
