@@ -95,7 +95,7 @@ public final class DesignCommand implements Callable<Integer> {
     @Option(names = "--sd", paramLabel = "s", description = "Standard deviation per unit (means).")
     Double sd;
 
-    @Option(names = "--relative-effect", paramLabel = "r", description = "Effect as a relative lift, e.g. 0.1 = +10%.")
+    @Option(names = "--relative-effect", paramLabel = "r", description = "Effect as a relative lift, e.g. 0.1 = +10%%.")
     Double relativeEffect;
 
     @Option(names = "--absolute-effect", paramLabel = "d", description = "Effect as an absolute difference.")
@@ -374,6 +374,10 @@ public final class DesignCommand implements Callable<Integer> {
             rows.add(sized ? row : java.util.Arrays.copyOf(row, 6));
         }
         printAligned(out, rows);
+        if (futility != null) {
+            out.println(sides == 2 ? "futility: stop for futility when |Z| < futility z (inner region)"
+                    : "futility: stop for futility when Z < futility z");
+        }
         if (plan.nonBindingFutility()) {
             out.println("note: non-binding futility; " + NON_BINDING_NOTE);
         }

@@ -77,9 +77,12 @@ class DesignCommandTest {
         }
         // the whole alpha is spent at the last look, both sides counted
         assertEquals(0.05, looks.get(4).get("cumulativeAlphaSpent").asDouble(), 1e-9);
-        // alpha(0.2) = 2 - 2 Phi(z_.975 / sqrt(0.2)) (Lan & DeMets 1983): 2 * upper tail at 4.3826
-        double spent1 = 2 * new org.apache.commons.math3.distribution.NormalDistribution(0, 1)
-                .cumulativeProbability(-1.959963984540054 / Math.sqrt(0.2)); // Commons Math
+        // per side, the O'Brien-Fleming-type function at level 0.025 (Lan & DeMets 1983):
+        // alpha_side(t) = 2 - 2 Phi(z_{1 - 0.0125} / sqrt(t)); both sides count, so look 1 spends
+        // 2 * alpha_side(0.2) = 1.078e-6 (the spend that gives the familiar 4.877)
+        org.apache.commons.math3.distribution.NormalDistribution std =
+                new org.apache.commons.math3.distribution.NormalDistribution(0, 1); // Commons Math
+        double spent1 = 2 * 2 * std.cumulativeProbability(-std.inverseCumulativeProbability(0.9875) / Math.sqrt(0.2));
         assertEquals(spent1, looks.get(0).get("cumulativeAlphaSpent").asDouble(), 1e-6 * spent1);
     }
 

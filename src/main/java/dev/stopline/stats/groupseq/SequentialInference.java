@@ -4,6 +4,7 @@ import dev.stopline.stats.Check;
 import dev.stopline.stats.Normal;
 import dev.stopline.stats.StatsException;
 import java.util.Arrays;
+import java.util.List;
 import org.apache.commons.math3.analysis.solvers.BrentSolver;
 import org.apache.commons.math3.exception.TooManyEvaluationsException;
 
@@ -131,6 +132,32 @@ public final class SequentialInference {
         return of(t, lo, up, sides);
     }
 
+    /**
+     * Flexible looks (Lan &amp; DeMets 1983): the boundaries of {@code design} recomputed at the fractions
+     * actually reached ({@link Boundaries#flexible}); the last fraction is the current look. This is the
+     * "design computed at the looks taken" of the repeated confidence intervals [1, sec. 9.2].
+     */
+    public static SequentialInference atLooks(Design design, double[] fractionsSoFar) {
+        List<LookBoundary> looks = Boundaries.flexible(design, fractionsSoFar);
+        boolean nonBinding = design.hasFutility() && !design.bindingFutility();
+        int k = looks.size();
+        double[] t = new double[k];
+        double[] lo = new double[k];
+        double[] up = new double[k];
+        for (int j = 0; j < k; j++) {
+            LookBoundary b = looks.get(j);
+            t[j] = b.informationFraction();
+            up[j] = b.efficacyZ();
+            lo[j] = lowerBound(b, design.sides(), nonBinding);
+        }
+        return of(t, lo, up, design.sides());
+    }
+
+    /**
+     * Lower continuation bound of a look: {@code -c} when two-sided (an inner two-sided futility region
+     * {@code |Z| < a} is not an interval bound and is ignored, which is exact for non-binding futility and
+     * conservative for p-values otherwise); one-sided, the futility bound only when it binds.
+     */
     static double lowerBound(LookBoundary b, int sides, boolean nonBinding) {
         if (sides == 2) {
             return -b.efficacyZ();

@@ -103,6 +103,20 @@ class SequentialInferenceTest {
     }
 
     @Test
+    void atLooks_unplannedFractions_recomputeTheBoundaryOfTheCurrentLook() {
+        Design design = Design.of(0.05, 2).withEqualLooks(5).withSpending("obrien-fleming");
+        double[] reached = {0.23, 0.51};
+        SequentialInference inf = SequentialInference.atLooks(design, reached);
+        LookBoundary current = Boundaries.next(design, reached);
+        assertEquals(2, inf.currentLook());
+        assertEquals(current.efficacyZ(), inf.currentBoundary(), 0.0);
+        // the adjusted p on the recomputed boundary equals the alpha spent through t = 0.51
+        double p = inf.adjustedPValue(current.efficacyZ());
+        double spent = current.cumulativeAlphaSpent();
+        assertEquals(spent, p, 1e-4 * spent, "relative error " + (p - spent) / spent);
+    }
+
+    @Test
     void medianUnbiasedEstimate_afterEarlyCrossing_isBelowNaiveAndHitsHalfByMonteCarlo() {
         BoundarySet plan = obf5();
         SequentialInference at2 = SequentialInference.fromPlan(plan, 2);
