@@ -367,8 +367,8 @@ public final class DesignCommand implements Callable<Integer> {
                 fmt("%.4f", b.informationFraction()),
                 fmt("%.4f", b.efficacyZ()),
                 Double.isNaN(b.futilityZ()) ? "-" : fmt("%.4f", b.futilityZ()),
-                fmt("%.6f", b.nominalPValue()),
-                fmt("%.6f", b.cumulativeAlphaSpent()),
+                probability(b.nominalPValue()),
+                probability(b.cumulativeAlphaSpent()),
                 sized ? Long.toString(SampleSize.atFraction(b.informationFraction(), sizing.maxPerArm())) : ""
             };
             rows.add(sized ? row : java.util.Arrays.copyOf(row, 6));
@@ -434,6 +434,11 @@ public final class DesignCommand implements Callable<Integer> {
 
     private ParameterException bad(String format, Object... args) {
         return new ParameterException(spec.commandLine(), String.format(Locale.ROOT, format, args));
+    }
+
+    /** Six decimals, or three significant digits in scientific notation below 0.001 (early OBF looks). */
+    static String probability(double p) {
+        return p < 0.001 ? fmt("%.2e", p) : fmt("%.6f", p);
     }
 
     private static String fmt(String format, Object... args) {

@@ -100,8 +100,10 @@ public final class SequentialInference {
                 throw new StatsException("information fractions must increase strictly (got %s)",
                         Arrays.toString(timing));
             }
-            if (!(lower[j] < upper[j])) {
-                throw new StatsException("lower bound %s must be below upper bound %s at look %d",
+            // lower == upper is allowed: a look where the design stops for sure (e.g. futility meeting
+            // efficacy at the final look)
+            if (!(lower[j] <= upper[j])) {
+                throw new StatsException("lower bound %s must not exceed upper bound %s at look %d",
                         lower[j], upper[j], j + 1);
             }
             if (sides == 2 && lower[j] != -upper[j]) {
@@ -345,6 +347,21 @@ public final class SequentialInference {
             lo[i] = lowerBound(b, sides, plan.nonBindingFutility());
         }
         return conditionalPower(plan.looks().get(k - 1).informationFraction(), zNow, t, lo, up, theta);
+    }
+
+    /** Conditional power of a plan under the current trend, {@code theta = z / sqrt(t_k)}. */
+    public static double conditionalPowerUnderTrend(BoundarySet plan, int currentLook, double zNow) {
+        Check.inRange("current look", currentLook, 1, plan.looks().size() - 1);
+        double t = plan.looks().get(currentLook - 1).informationFraction();
+        return conditionalPower(plan, currentLook, zNow, currentTrendDrift(zNow, t));
+    }
+
+    /** Conditional power of a plan under the effect it was designed for, {@code theta = plan.drift()}. */
+    public static double conditionalPowerUnderDesign(BoundarySet plan, int currentLook, double zNow) {
+        if (Double.isNaN(plan.drift())) {
+            throw new StatsException("the plan has no design effect: give it a power");
+        }
+        return conditionalPower(plan, currentLook, zNow, plan.drift());
     }
 
     /** The current-trend drift {@code z / sqrt(t)}: the naive estimate of theta at fraction t. */

@@ -93,6 +93,23 @@ class SequentialInferenceTest {
     }
 
     @Test
+    void pValue_oneSidedWithFutility_onTheBoundaryEqualsAlphaSpent_bindingAndNonBinding() {
+        // binding: the engine spends alpha with futility stops in the continuation region, so the ordering
+        // must use them as lower bounds; non-binding: as if futility did not exist (lower = -infinity)
+        for (boolean binding : new boolean[] {true, false}) {
+            BoundarySet plan = Boundaries.compute(Design.of(0.025, 1).withEqualLooks(3)
+                    .withSpending("obrien-fleming").withFutility("power:2", 0.1, binding).withPower(0.9));
+            for (int k = 1; k <= 3; k++) {
+                LookBoundary b = plan.looks().get(k - 1);
+                double p = SequentialInference.fromPlan(plan, k).adjustedPValue(b.efficacyZ());
+                double spent = b.cumulativeAlphaSpent();
+                assertEquals(spent, p, 1e-4 * spent,
+                        "binding " + binding + " look " + k + " relative error " + (p - spent) / spent);
+            }
+        }
+    }
+
+    @Test
     void repeatedConfidenceInterval_usesTheBoundaryOfTheLook() {
         BoundarySet plan = obf5();
         LookBoundary b2 = plan.looks().get(1);
@@ -270,7 +287,8 @@ class SequentialInferenceTest {
         double f = (double) hits / n;
         double se = Math.sqrt(cp * (1 - cp) / n);
         assertEquals(cp, f, 3 * se, "Monte Carlo error " + (f - cp) / se + " SE");
-        double underDesign = SequentialInference.conditionalPower(plan, 2, z2, plan.drift());
+        assertEquals(cp, SequentialInference.conditionalPowerUnderTrend(plan, 2, z2), 0.0);
+        double underDesign = SequentialInference.conditionalPowerUnderDesign(plan, 2, z2);
         assertTrue(underDesign > cp, "design drift " + plan.drift() + " exceeds the trend " + theta);
     }
 
