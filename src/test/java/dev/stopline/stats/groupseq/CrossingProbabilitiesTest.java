@@ -40,7 +40,7 @@ class CrossingProbabilitiesTest {
         // P(Z1 < b1, Z2 > b2): Z2 = sqrt(t1) Z1 + sqrt(1 - t1) W + theta (1 - t1) / 1, W ~ N(0,1) independent;
         // integrate over z1 with Commons Math Gauss-Legendre (independent of the recursion's grid and Simpson rule).
         double mu1 = theta * Math.sqrt(t1);
-        IterativeLegendreGaussIntegrator gl = new IterativeLegendreGaussIntegrator(32, 1e-14, 1e-15);
+        IterativeLegendreGaussIntegrator gl = new IterativeLegendreGaussIntegrator(16, 1e-12, 1e-14);
         double expected = gl.integrate(100_000, z1 -> STD.density(z1 - mu1)
                 * (1 - STD.cumulativeProbability((b2 - Math.sqrt(t1) * z1 - theta * (1 - t1)) / Math.sqrt(1 - t1))),
                 mu1 - 15, b1);
