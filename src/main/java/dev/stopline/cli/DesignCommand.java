@@ -116,7 +116,7 @@ public final class DesignCommand implements Callable<Integer> {
     public Integer call() {
         boolean json = parseFormat();
         Design design = buildDesign();
-        BoundarySet plan = core("--looks", () -> Boundaries.compute(design));
+        BoundarySet plan = core("design", () -> Boundaries.compute(design));
         Sizing sizing = sizing(plan);
         PrintWriter out = spec.commandLine().getOut();
         if (json) {
@@ -237,6 +237,12 @@ public final class DesignCommand implements Callable<Integer> {
         }
         if (!(b > 0 && b < 1)) {
             throw bad("--beta: must be in (0, 1) (got %s)", b);
+        }
+        if (boundary != null) {
+            throw bad("--futility: classical --boundary takes no futility; use --spending for beta spending");
+        }
+        if (power != null && beta != null && Math.abs(power - (1 - beta)) > 1e-12) {
+            throw bad("--power: must equal 1 - beta = %s when --futility spends beta (got %s)", 1 - beta, power);
         }
         return core("--futility", () -> design.withFutility(futility, b, binding));
     }

@@ -211,6 +211,14 @@ class DesignCommandTest {
         Run both = run(DesignCommand.commandLine(), "--spending", "pocock", "--boundary", "pocock");
         assertEquals(2, both.exit());
         assertEquals("--spending/--boundary: give exactly one of them (got both)", both.errLines()[0]);
+        Run classicalFutility = run(DesignCommand.commandLine(), "--boundary", "pocock", "--futility", "power:2",
+                "--beta", "0.2");
+        assertEquals(2, classicalFutility.exit());
+        assertEquals("--futility: classical --boundary takes no futility; use --spending for beta spending",
+                classicalFutility.errLines()[0]);
+        Run mismatch = run(DesignCommand.commandLine(), "--futility", "power:2", "--beta", "0.2", "--power", "0.9");
+        assertEquals(2, mismatch.exit());
+        assertEquals("--power: must equal 1 - beta = 0.8 when --futility spends beta (got 0.9)", mismatch.errLines()[0]);
         Run noPower = run(DesignCommand.commandLine(), "--baseline-rate", "0.1", "--relative-effect", "0.1");
         assertEquals(2, noPower.exit());
         assertEquals("--power: needed for sample size (or --futility with --beta)", noPower.errLines()[0]);
