@@ -83,7 +83,7 @@ public final class SequentialInference {
      *
      * @param timing information fractions, strictly increasing, > 0 (may exceed 1 on an overrun)
      * @param lower  lower continuation bound per look ({@code -upper} two-sided, futility, or -infinity)
-     * @param upper  efficacy boundary per look (finite)
+     * @param upper  efficacy boundary per look (+infinity where no alpha was spent)
      * @param sides  1 or 2; two-sided requires {@code lower = -upper}
      */
     public static SequentialInference of(double[] timing, double[] lower, double[] upper, int sides) {
@@ -95,7 +95,10 @@ public final class SequentialInference {
         }
         for (int j = 0; j < k; j++) {
             Check.positive("information fraction", timing[j]);
-            Check.finite("efficacy boundary", upper[j]);
+            // +infinity is a look that spent no alpha (its repeated confidence interval is the whole line)
+            if (!(upper[j] > Double.NEGATIVE_INFINITY)) {
+                throw new StatsException("efficacy boundary %s at look %d must be > -infinity", upper[j], j + 1);
+            }
             if (j > 0 && !(timing[j] > timing[j - 1])) {
                 throw new StatsException("information fractions must increase strictly (got %s)",
                         Arrays.toString(timing));

@@ -297,6 +297,21 @@ class SequentialInferenceTest {
     }
 
     @Test
+    void lookThatSpentNoAlpha_hasWholeLineIntervalAndDoesNotChangeTheFinalPValue() {
+        // an infinite first boundary never stops, so the final look is the fixed test (Commons Math p-value)
+        double inf = Double.POSITIVE_INFINITY;
+        SequentialInference first = SequentialInference.of(new double[] {0.5}, new double[] {-inf},
+                new double[] {inf}, 2);
+        SequentialInference.Interval ci = first.repeatedConfidenceInterval(0.1, 0.05);
+        assertEquals(Double.NEGATIVE_INFINITY, ci.lower());
+        assertEquals(inf, ci.upper());
+        SequentialInference both = SequentialInference.of(new double[] {0.5, 1}, new double[] {-inf, -Z975},
+                new double[] {inf, Z975}, 2);
+        double expected = 2 * (1 - STD.cumulativeProbability(2.4));
+        assertEquals(expected, both.adjustedPValue(2.4), 1e-6 * expected);
+    }
+
+    @Test
     void badInputs_stateTheRule() {
         StatsException e = assertThrows(StatsException.class, () -> SequentialInference.of(
                 new double[] {0.5, 0.4}, new double[] {-3, -2}, new double[] {3, 2}, 2));
