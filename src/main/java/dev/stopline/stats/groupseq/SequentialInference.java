@@ -4,6 +4,7 @@ import dev.stopline.stats.Check;
 import dev.stopline.stats.Normal;
 import dev.stopline.stats.StatsException;
 import java.util.Arrays;
+import java.util.List;
 import org.apache.commons.math3.analysis.solvers.BrentSolver;
 import org.apache.commons.math3.exception.TooManyEvaluationsException;
 
@@ -82,7 +83,7 @@ public final class SequentialInference {
      *
      * @param timing information fractions, strictly increasing, > 0 (may exceed 1 on an overrun)
      * @param lower  lower continuation bound per look ({@code -upper} two-sided, futility, or -infinity)
-     * @param upper  efficacy boundary per look (finite)
+     * @param upper  efficacy boundary per look (+infinity where no alpha was spent)
      * @param sides  1 or 2; two-sided requires {@code lower = -upper}
      */
     public static SequentialInference of(double[] timing, double[] lower, double[] upper, int sides) {
@@ -94,13 +95,18 @@ public final class SequentialInference {
         }
         for (int j = 0; j < k; j++) {
             Check.positive("information fraction", timing[j]);
-            Check.finite("efficacy boundary", upper[j]);
+            // +infinity is a look that spent no alpha (its repeated confidence interval is the whole line)
+            if (!(upper[j] > Double.NEGATIVE_INFINITY)) {
+                throw new StatsException("efficacy boundary %s at look %d must be > -infinity", upper[j], j + 1);
+            }
             if (j > 0 && !(timing[j] > timing[j - 1])) {
                 throw new StatsException("information fractions must increase strictly (got %s)",
                         Arrays.toString(timing));
             }
-            if (!(lower[j] < upper[j])) {
-                throw new StatsException("lower bound %s must be below upper bound %s at look %d",
+            // lower == upper is allowed: a look where the design stops for sure (e.g. futility meeting
+            // efficacy at the final look)
+            if (!(lower[j] <= upper[j])) {
+                throw new StatsException("lower bound %s must not exceed upper bound %s at look %d",
                         lower[j], upper[j], j + 1);
             }
             if (sides == 2 && lower[j] != -upper[j]) {
@@ -131,6 +137,32 @@ public final class SequentialInference {
         return of(t, lo, up, sides);
     }
 
+    /**
+     * Flexible looks (Lan &amp; DeMets 1983): the boundaries of {@code design} recomputed at the fractions
+     * actually reached ({@link Boundaries#flexible}); the last fraction is the current look. This is the
+     * "design computed at the looks taken" of the repeated confidence intervals [1, sec. 9.2].
+     */
+    public static SequentialInference atLooks(Design design, double[] fractionsSoFar) {
+        List<LookBoundary> looks = Boundaries.flexible(design, fractionsSoFar);
+        boolean nonBinding = design.hasFutility() && !design.bindingFutility();
+        int k = looks.size();
+        double[] t = new double[k];
+        double[] lo = new double[k];
+        double[] up = new double[k];
+        for (int j = 0; j < k; j++) {
+            LookBoundary b = looks.get(j);
+            t[j] = b.informationFraction();
+            up[j] = b.efficacyZ();
+            lo[j] = lowerBound(b, design.sides(), nonBinding);
+        }
+        return of(t, lo, up, design.sides());
+    }
+
+    /**
+     * Lower continuation bound of a look: {@code -c} when two-sided (an inner two-sided futility region
+     * {@code |Z| < a} is not an interval bound and is ignored, which is exact for non-binding futility and
+     * conservative for p-values otherwise); one-sided, the futility bound only when it binds.
+     */
     static double lowerBound(LookBoundary b, int sides, boolean nonBinding) {
         if (sides == 2) {
             return -b.efficacyZ();
@@ -318,6 +350,21 @@ public final class SequentialInference {
             lo[i] = lowerBound(b, sides, plan.nonBindingFutility());
         }
         return conditionalPower(plan.looks().get(k - 1).informationFraction(), zNow, t, lo, up, theta);
+    }
+
+    /** Conditional power of a plan under the current trend, {@code theta = z / sqrt(t_k)}. */
+    public static double conditionalPowerUnderTrend(BoundarySet plan, int currentLook, double zNow) {
+        Check.inRange("current look", currentLook, 1, plan.looks().size() - 1);
+        double t = plan.looks().get(currentLook - 1).informationFraction();
+        return conditionalPower(plan, currentLook, zNow, currentTrendDrift(zNow, t));
+    }
+
+    /** Conditional power of a plan under the effect it was designed for, {@code theta = plan.drift()}. */
+    public static double conditionalPowerUnderDesign(BoundarySet plan, int currentLook, double zNow) {
+        if (Double.isNaN(plan.drift())) {
+            throw new StatsException("the plan has no design effect: give it a power");
+        }
+        return conditionalPower(plan, currentLook, zNow, plan.drift());
     }
 
     /** The current-trend drift {@code z / sqrt(t)}: the naive estimate of theta at fraction t. */
