@@ -25,6 +25,8 @@ public final class Main {
     public static CommandLine commandLine() {
         CommandLine cli = new CommandLine(new StoplineCommand());
         cli.setCaseInsensitiveEnumValuesAllowed(true);
+        // one line naming the option and the rule, exit code 2 (no usage dump after it)
+        cli.setParameterExceptionHandler(DesignCommand.ONE_LINE_ERRORS);
         return cli;
     }
 }
