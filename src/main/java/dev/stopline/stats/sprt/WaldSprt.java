@@ -148,8 +148,8 @@ public final class WaldSprt {
     }
 
     /**
-     * Wald's SPRT for a Bernoulli rate, with Wald's (1947; chapter on binomial tests, from memory) operating characteristic and average
-     * sample number approximations.
+     * Wald's SPRT for a Bernoulli rate, with Wald's (1947; chapter on binomial tests, from memory)
+     * operating characteristic and average sample number approximations.
      *
      * <p>Per trial {@code z = x ln(p1/p0) + (1 - x) ln((1 - p1)/(1 - p0))}, so after {@code s} successes in
      * {@code n} trials {@code Z = s ln(p1/p0) + (n - s) ln((1 - p1)/(1 - p0))}.

@@ -49,7 +49,8 @@ class GuardrailMixtureSprtTest {
         for (double v : new double[] {1e-7, 1e-4, 0.002, 0.1, 30}) {
             int[] evaluations = {0};
             double x = LOAD_TIME.criticalExcess(v, evaluations);
-            assertEquals(Math.log(1 / ALPHA), LOAD_TIME.logLikelihoodRatio(x + MARGIN, v), 1e-9, "ln Lambda+ at x*, v=" + v);
+            assertEquals(Math.log(1 / ALPHA), LOAD_TIME.logLikelihoodRatio(x + MARGIN, v), 1e-9,
+                    "ln Lambda+ at x*, v=" + v);
             assertTrue(evaluations[0] <= 30, "Brent evaluations " + evaluations[0] + " at v = " + v);
             MixtureSprt twoSided = MixtureSprt.of(ALPHA, TAU2);
             assertTrue(x <= twoSided.halfWidth(v), "one-sided bound is never wider than the two-sided one");
@@ -78,7 +79,8 @@ class GuardrailMixtureSprtTest {
         double se = Math.sqrt(ALPHA * (1 - ALPHA) / STREAMS);
         double atMargin = rejectionRate(MARGIN, new SplittableRandom(31));
         double noHarm = rejectionRate(0.0, new SplittableRandom(32));
-        assertTrue(atMargin <= ALPHA + 3 * se, () -> String.format("type-I at margin %.4f > %.4f", atMargin, ALPHA + 3 * se));
+        assertTrue(atMargin <= ALPHA + 3 * se,
+                () -> String.format("type-I at margin %.4f > %.4f", atMargin, ALPHA + 3 * se));
         assertTrue(noHarm <= atMargin, () -> String.format("no harm %.4f should not reject more than at margin %.4f",
                 noHarm, atMargin));
     }

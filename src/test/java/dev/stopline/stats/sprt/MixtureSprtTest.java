@@ -126,7 +126,8 @@ class MixtureSprtTest {
         double naiveRate = (double) naiveRejections / STREAMS;
         double se = Math.sqrt(ALPHA * (1 - ALPHA) / STREAMS);
         assertTrue(rate <= ALPHA + 3 * se, () -> String.format("mixture type-I %.4f > %.4f", rate, ALPHA + 3 * se));
-        assertTrue(naiveRate > 0.2, () -> String.format("naive peeking should inflate far above alpha: %.4f", naiveRate));
+        assertTrue(naiveRate > 0.2,
+                () -> String.format("naive peeking should inflate far above alpha: %.4f", naiveRate));
     }
 
     /**

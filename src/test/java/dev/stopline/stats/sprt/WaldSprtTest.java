@@ -160,7 +160,8 @@ class WaldSprtTest {
             double bound = ((ocHi - ocLo) * (TEST.logUpper() - TEST.logLower()) + Math.max(up, -down)) / Math.abs(step);
             double nSe = n.getStandardDeviation() / Math.sqrt(runs);
             assertEquals(asnWald, n.getMean(), bound + 3 * nSe, String.format(
-                    "p=%.3f ASN sim %.2f +- %.2f, Wald %.2f, overshoot allowance %.2f", p, n.getMean(), nSe, asnWald, bound));
+                    "p=%.3f ASN sim %.2f +- %.2f, Wald %.2f, overshoot allowance %.2f",
+                    p, n.getMean(), nSe, asnWald, bound));
         }
     }
 
