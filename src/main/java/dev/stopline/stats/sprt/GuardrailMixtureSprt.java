@@ -154,6 +154,15 @@ public final class GuardrailMixtureSprt {
         return new State(this, 0, 1.0, Double.NEGATIVE_INFINITY);
     }
 
+    /** A state remembered from earlier looks: the running minimum p-value and maximum lower bound continue. */
+    public State resume(long looks, double pValue, double harmLowerBound) {
+        if (!(looks >= 0 && pValue >= 0 && pValue <= 1)) {
+            throw new StatsException("resumed state needs looks >= 0 and p-value in [0, 1], got %d and %s",
+                    looks, pValue);
+        }
+        return new State(this, looks, pValue, harmLowerBound);
+    }
+
     /**
      * Running state: always-valid one-sided p-value (running minimum of {@code 1/Lambda+}) and the running
      * maximum of the lower bounds on the harm. Immutable.

@@ -133,6 +133,18 @@ public final class MixtureSprt {
     }
 
     /**
+     * A state remembered from earlier looks (the daemon stores looks, p-value and interval between
+     * snapshots). The running minimum and the running intersection continue from these values.
+     */
+    public State resume(long looks, double pValue, Interval interval) {
+        if (!(looks >= 0 && pValue >= 0 && pValue <= 1)) {
+            throw new StatsException("resumed state needs looks >= 0 and p-value in [0, 1], got %d and %s",
+                    looks, pValue);
+        }
+        return new State(this, looks, pValue, interval, Double.NEGATIVE_INFINITY);
+    }
+
+    /**
      * Running state of a monitored comparison: the always-valid p-value (running minimum of
      * {@code 1/Lambda}), the running intersection of the confidence intervals, and the number of looks.
      * Immutable; {@link #update(double, double)} returns the next state.
