@@ -160,6 +160,11 @@ public final class GuardrailMixtureSprt {
             throw new StatsException("resumed state needs looks >= 0 and p-value in [0, 1], got %d and %s",
                     looks, pValue);
         }
+        // NaN would stick in the running maximum (Math.max propagates it); "no bound yet" is -Infinity
+        if (Double.isNaN(harmLowerBound) || harmLowerBound == Double.POSITIVE_INFINITY) {
+            throw new StatsException("resumed harm lower bound %s must be finite or -Infinity (none yet)",
+                    harmLowerBound);
+        }
         return new State(this, looks, pValue, harmLowerBound);
     }
 

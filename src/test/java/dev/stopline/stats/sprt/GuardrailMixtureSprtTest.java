@@ -130,6 +130,19 @@ class GuardrailMixtureSprtTest {
     }
 
     @Test
+    void resume_fromStoredFields_continuesExactlyAsAnUninterruptedState() {
+        GuardrailMixtureSprt.State early = LOAD_TIME.start().update(0.2, 0.01).update(0.1, 0.004);
+        GuardrailMixtureSprt.State resumed = LOAD_TIME.resume(early.looks(), early.pValue(), early.harmLowerBound());
+        GuardrailMixtureSprt.State straight = early.update(0.12, 0.002);
+        GuardrailMixtureSprt.State continued = resumed.update(0.12, 0.002);
+        assertEquals(straight.looks(), continued.looks());
+        assertEquals(straight.pValue(), continued.pValue(), 0.0);
+        assertEquals(straight.harmLowerBound(), continued.harmLowerBound(), 0.0);
+        assertEquals(Double.NEGATIVE_INFINITY, LOAD_TIME.resume(0, 1, Double.NEGATIVE_INFINITY).harmLowerBound());
+        assertMessage("must be finite or -Infinity", () -> LOAD_TIME.resume(3, 0.2, Double.NaN));
+    }
+
+    @Test
     void badParameters_areRejectedWithTheRule() {
         assertMessage("one-sided alpha 0.5 must be < 0.5",
                 () -> GuardrailMixtureSprt.of(0.5, TAU2, HarmDirection.INCREASE, 0));

@@ -210,6 +210,19 @@ class MixtureSprtTest {
     }
 
     @Test
+    void resume_fromStoredFields_continuesExactlyAsAnUninterruptedState() {
+        MixtureSprt.State early = TEST.start().update(0.08, 0.004).update(0.03, 0.002);
+        MixtureSprt.State resumed = TEST.resume(early.looks(), early.pValue(), early.interval());
+        MixtureSprt.State straight = early.update(0.05, 0.001);
+        MixtureSprt.State continued = resumed.update(0.05, 0.001);
+        assertEquals(straight.looks(), continued.looks());
+        assertEquals(straight.pValue(), continued.pValue(), 0.0);
+        assertEquals(straight.interval(), continued.interval());
+        assertMessage("non-NaN ends", () -> TEST.resume(2, 0.5, new Interval(Double.NaN, 1)));
+        assertMessage("p-value in [0, 1]", () -> TEST.resume(2, 1.5, Interval.ALL));
+    }
+
+    @Test
     void badParameters_areRejectedWithTheRule() {
         assertMessage("alpha 1.0 not in (0, 1)", () -> MixtureSprt.of(1.0, 1));
         assertMessage("tau^2 0.0 must be finite and > 0", () -> MixtureSprt.of(0.05, 0));
