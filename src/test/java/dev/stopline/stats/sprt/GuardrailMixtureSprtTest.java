@@ -58,6 +58,25 @@ class GuardrailMixtureSprtTest {
         }
     }
 
+    /** The ordering argued in the class Javadoc, on a grid of excess harm x and variance v. */
+    @Test
+    void rejections_lieBetweenTwoSidedAtAlphaAndTheSignRuleAtTwoAlpha() {
+        MixtureSprt atAlpha = MixtureSprt.of(ALPHA, TAU2);
+        MixtureSprt atTwoAlpha = MixtureSprt.of(2 * ALPHA, TAU2);
+        int strictlyBetween = 0;
+        for (double v : new double[] {1e-5, 1e-3, 0.01, 0.3}) {
+            for (double x = -6 * Math.sqrt(v); x <= 6 * Math.sqrt(v); x += 0.001 * Math.sqrt(v)) {
+                boolean ours = LOAD_TIME.rejects(x + MARGIN, v);
+                boolean signRule = x > 0 && atTwoAlpha.rejects(x, v);
+                boolean twoSided = x > 0 && atAlpha.rejects(x, v);
+                assertTrue(!ours || signRule, "rejected where the 2-alpha sign rule does not: x=" + x + " v=" + v);
+                assertTrue(!twoSided || ours, "missed a two-sided rejection with harmful sign: x=" + x + " v=" + v);
+                strictlyBetween += signRule && !ours ? 1 : 0;
+            }
+        }
+        assertTrue(strictlyBetween > 0, "the sign rule should reject strictly more somewhere (it is more liberal)");
+    }
+
     @Test
     void rejection_happensExactlyWhenTheLowerBoundReachesTheMargin() {
         double v = 0.002;
