@@ -1,5 +1,6 @@
 package dev.stopline.stats.estimate;
 
+import dev.stopline.stats.Check;
 import dev.stopline.stats.StatsException;
 
 /**
@@ -10,6 +11,19 @@ import dev.stopline.stats.StatsException;
  * @param units the number of randomisation units behind it
  */
 public record ArmEstimate(double value, double variance, long units) {
+
+    /**
+     * Validates an estimate built directly (for instance by another estimator).
+     *
+     * @throws StatsException unless value is finite, variance finite and >= 0, units >= 0
+     */
+    public ArmEstimate {
+        Check.finite("estimate", value);
+        Check.nonNegative("variance of the estimate", variance);
+        if (units < 0) {
+            throw new StatsException("units %d must be >= 0", units);
+        }
+    }
 
     /** Standard error, {@code sqrt(variance)}. */
     public double standardError() {

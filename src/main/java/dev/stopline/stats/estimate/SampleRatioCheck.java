@@ -19,8 +19,9 @@ import org.apache.commons.math3.distribution.ChiSquaredDistribution;
  * every look of a long experiment, and a strict threshold keeps false alarms rare.
  *
  * <p>The p-value is {@code 1 - F(X^2)} with Commons Math's {@link ChiSquaredDistribution}, the same
- * computation as {@code org.apache.commons.math3.stat.inference.ChiSquareTest}; it has absolute
- * accuracy near 1e-16, which is all a flag at 0.001 needs (tiny p-values are not relatively accurate).
+ * computation as {@code org.apache.commons.math3.stat.inference.ChiSquareTest}; its absolute accuracy
+ * (about 1e-14, the default epsilon of Commons Math's regularized gamma function) is all a flag at 0.001
+ * needs, though tiny p-values are not relatively accurate.
  *
  * <p>Immutable; options as withers: {@code SampleRatioCheck.withWeights(0.5, 0.5).withThreshold(1e-4)}.
  */

@@ -37,8 +37,11 @@ import org.apache.commons.math3.exception.MathIllegalStateException;
  * rejects when {@code Lambda >= 1/(2 alpha)} with {@code x > 0}; Ville bounds the probability of either
  * sign crossing by {@code 2 alpha}, but a path may cross on both sides at different looks, so the
  * one-sided probability is only bounded by {@code alpha + P(both)/2}, not by {@code alpha}. The
- * half-normal mixture needs no such argument and is never weaker: {@code Lambda+ >= Lambda} for
- * {@code x >= 0} since {@code Phi >= 1/2} there.
+ * half-normal mixture needs no such argument. Its price is small: since {@code Lambda+ <= 2 Lambda} and
+ * {@code Lambda+ < 1} for {@code x <= 0}, every rejection of ours is also one of the sign rule (we are
+ * slightly more conservative, by the factor {@code Phi(x sqrt(r)/sqrt v)}, close to 1 at the
+ * threshold); and since {@code Lambda+ >= Lambda} for {@code x >= 0} ({@code Phi >= 1/2}), we reject
+ * whenever the two-sided mixture at {@code alpha} would with the harmful sign.
  *
  * <h2>Always-valid lower confidence bound on the harm</h2>
  * {@code Lambda+} increases in {@code x} (the mixture is over positive {@code theta} only), so the harms
@@ -159,6 +162,11 @@ public final class GuardrailMixtureSprt {
         if (!(looks >= 0 && pValue >= 0 && pValue <= 1)) {
             throw new StatsException("resumed state needs looks >= 0 and p-value in [0, 1], got %d and %s",
                     looks, pValue);
+        }
+        // NaN would stick in the running maximum (Math.max propagates it); "no bound yet" is -Infinity
+        if (Double.isNaN(harmLowerBound) || harmLowerBound == Double.POSITIVE_INFINITY) {
+            throw new StatsException("resumed harm lower bound %s must be finite or -Infinity (none yet)",
+                    harmLowerBound);
         }
         return new State(this, looks, pValue, harmLowerBound);
     }

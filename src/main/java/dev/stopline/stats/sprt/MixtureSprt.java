@@ -141,6 +141,10 @@ public final class MixtureSprt {
             throw new StatsException("resumed state needs looks >= 0 and p-value in [0, 1], got %d and %s",
                     looks, pValue);
         }
+        // a NaN end would make every later intersection NaN (Math.max/min propagate it) and hide the interval
+        if (interval == null || Double.isNaN(interval.lower()) || Double.isNaN(interval.upper())) {
+            throw new StatsException("resumed interval must have non-NaN ends (infinite for none), got %s", interval);
+        }
         return new State(this, looks, pValue, interval, Double.NEGATIVE_INFINITY);
     }
 

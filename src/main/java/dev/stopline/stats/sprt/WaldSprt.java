@@ -19,7 +19,8 @@ import org.apache.commons.math3.exception.MathIllegalStateException;
  * <p>the test accepts H1 when {@code Z_n >= ln A}, accepts H0 when {@code Z_n <= ln B}, and continues
  * otherwise. Wald's thresholds neglect the overshoot of {@code Z_n} beyond them, so the attained error
  * rates {@code alpha'}, {@code beta'} are bounded by {@code alpha' <= alpha / (1 - beta)},
- * {@code beta' <= beta / (1 - alpha)} and {@code alpha' + beta' <= alpha + beta} (Wald 1947, Sec. 3.2),
+ * {@code beta' <= beta / (1 - alpha)} and {@code alpha' + beta' <= alpha + beta} (Wald 1947, Ch. 3;
+ * section from memory),
  * and are usually below nominal.
  *
  * <p>Two likelihood ratios are provided: {@link #bernoulli(double, double)} (a guardrail rate against a
@@ -147,8 +148,8 @@ public final class WaldSprt {
     }
 
     /**
-     * Wald's SPRT for a Bernoulli rate, with Wald's (1947, Ch. 5) operating characteristic and average
-     * sample number approximations.
+     * Wald's SPRT for a Bernoulli rate, with Wald's (1947; chapter on binomial tests, from memory)
+     * operating characteristic and average sample number approximations.
      *
      * <p>Per trial {@code z = x ln(p1/p0) + (1 - x) ln((1 - p1)/(1 - p0))}, so after {@code s} successes in
      * {@code n} trials {@code Z = s ln(p1/p0) + (n - s) ln((1 - p1)/(1 - p0))}.

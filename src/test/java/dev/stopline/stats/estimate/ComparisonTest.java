@@ -36,6 +36,35 @@ class ComparisonTest {
     }
 
     @Test
+    void means_zStatistic_equalsCommonsMathUnpooledTStatistic() {
+        // recommendations-v2: revenue per visitor, seeded skewed data, unequal arms
+        SplittableRandom rnd = new SplittableRandom(3);
+        SummaryStatistics control = new SummaryStatistics();
+        SummaryStatistics treatment = new SummaryStatistics();
+        double[] c = new double[3];
+        double[] t = new double[3];
+        for (int i = 0; i < 4000; i++) {
+            add(control, c, rnd.nextDouble() < 0.2 ? -20 * Math.log(rnd.nextDouble()) : 0);
+        }
+        for (int i = 0; i < 2500; i++) {
+            add(treatment, t, rnd.nextDouble() < 0.22 ? -20 * Math.log(rnd.nextDouble()) : 0);
+        }
+        Comparison cmp = Comparison.of(MetricType.MEAN, ArmStatistics.of((long) c[0], c[1], c[2]),
+                ArmStatistics.of((long) t[0], t[1], t[2]), 0.95);
+        // Commons Math TTest.t: (m1 - m2)/sqrt(s1^2/n1 + s2^2/n2), the unpooled statistic
+        double reference = new org.apache.commons.math3.stat.inference.TTest().t(treatment, control);
+        assertEquals(reference, cmp.z(), 1e-9 * Math.abs(reference), "unpooled z vs Commons Math TTest.t");
+        assertEquals(treatment.getMean() - control.getMean(), cmp.difference(), 1e-12, "difference of means");
+    }
+
+    private static void add(SummaryStatistics stats, double[] sums, double x) {
+        stats.addValue(x);
+        sums[0] += 1;
+        sums[1] += x;
+        sums[2] += x * x;
+    }
+
+    @Test
     void effectiveSampleSize_unequalArms_isHarmonicHalf() {
         Comparison c = Comparison.of(MetricType.PROPORTION, ArmStatistics.binary(3000, 300),
                 ArmStatistics.binary(1000, 120), 0.9);

@@ -7,7 +7,7 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 import dev.stopline.stats.Normal;
 import dev.stopline.stats.StatsException;
 import java.util.SplittableRandom;
-import org.apache.commons.math3.analysis.integration.IterativeLegendreGaussIntegrator;
+import org.apache.commons.math3.analysis.integration.SimpsonIntegrator;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.params.ParameterizedTest;
 import org.junit.jupiter.params.provider.CsvSource;
@@ -27,13 +27,14 @@ class GuardrailMixtureSprtTest {
     void likelihoodRatio_equalsTheHalfNormalMixtureByQuadrature(double d, double v) {
         double tau = Math.sqrt(TAU2);
         double x = d - MARGIN;
-        IterativeLegendreGaussIntegrator quadrature = new IterativeLegendreGaussIntegrator(16, 1e-12, 1e-14);
-        double integral = quadrature.integrate(10_000,
+        // Simpson's rule (Commons Math), refined until successive estimates agree to 1e-12 relative
+        SimpsonIntegrator quadrature = new SimpsonIntegrator(1e-12, 1e-15, 3, 64);
+        double integral = quadrature.integrate(200_000,
                 theta -> Math.exp((theta * x - 0.5 * theta * theta) / v) * 2 * Normal.pdf(theta / tau) / tau,
                 0, 12 * tau); // Commons Math
         double lambda = Math.exp(LOAD_TIME.logLikelihoodRatio(d, v));
         assertEquals(integral, lambda, 1e-9 * lambda, "half-normal mixture of exp((theta x - theta^2/2)/v)");
-        assertTrue(quadrature.getEvaluations() < 10_000, "quadrature evaluations " + quadrature.getEvaluations());
+        assertTrue(quadrature.getEvaluations() <= 70_000, "quadrature evaluations " + quadrature.getEvaluations());
     }
 
     @Test
@@ -48,12 +49,32 @@ class GuardrailMixtureSprtTest {
         for (double v : new double[] {1e-7, 1e-4, 0.002, 0.1, 30}) {
             int[] evaluations = {0};
             double x = LOAD_TIME.criticalExcess(v, evaluations);
-            assertEquals(Math.log(1 / ALPHA), LOAD_TIME.logLikelihoodRatio(x + MARGIN, v), 1e-9, "ln Lambda+ at x*, v=" + v);
+            assertEquals(Math.log(1 / ALPHA), LOAD_TIME.logLikelihoodRatio(x + MARGIN, v), 1e-9,
+                    "ln Lambda+ at x*, v=" + v);
             assertTrue(evaluations[0] <= 30, "Brent evaluations " + evaluations[0] + " at v = " + v);
             MixtureSprt twoSided = MixtureSprt.of(ALPHA, TAU2);
             assertTrue(x <= twoSided.halfWidth(v), "one-sided bound is never wider than the two-sided one");
             assertTrue(x >= MixtureSprt.of(2 * ALPHA, TAU2).halfWidth(v), "nor narrower than two-sided at 2 alpha");
         }
+    }
+
+    /** The ordering argued in the class Javadoc, on a grid of excess harm x and variance v. */
+    @Test
+    void rejections_lieBetweenTwoSidedAtAlphaAndTheSignRuleAtTwoAlpha() {
+        MixtureSprt atAlpha = MixtureSprt.of(ALPHA, TAU2);
+        MixtureSprt atTwoAlpha = MixtureSprt.of(2 * ALPHA, TAU2);
+        int strictlyBetween = 0;
+        for (double v : new double[] {1e-5, 1e-3, 0.01, 0.3}) {
+            for (double x = -6 * Math.sqrt(v); x <= 6 * Math.sqrt(v); x += 0.001 * Math.sqrt(v)) {
+                boolean ours = LOAD_TIME.rejects(x + MARGIN, v);
+                boolean signRule = x > 0 && atTwoAlpha.rejects(x, v);
+                boolean twoSided = x > 0 && atAlpha.rejects(x, v);
+                assertTrue(!ours || signRule, "rejected where the 2-alpha sign rule does not: x=" + x + " v=" + v);
+                assertTrue(!twoSided || ours, "missed a two-sided rejection with harmful sign: x=" + x + " v=" + v);
+                strictlyBetween += signRule && !ours ? 1 : 0;
+            }
+        }
+        assertTrue(strictlyBetween > 0, "the sign rule should reject strictly more somewhere (it is more liberal)");
     }
 
     @Test
@@ -77,7 +98,8 @@ class GuardrailMixtureSprtTest {
         double se = Math.sqrt(ALPHA * (1 - ALPHA) / STREAMS);
         double atMargin = rejectionRate(MARGIN, new SplittableRandom(31));
         double noHarm = rejectionRate(0.0, new SplittableRandom(32));
-        assertTrue(atMargin <= ALPHA + 3 * se, () -> String.format("type-I at margin %.4f > %.4f", atMargin, ALPHA + 3 * se));
+        assertTrue(atMargin <= ALPHA + 3 * se,
+                () -> String.format("type-I at margin %.4f > %.4f", atMargin, ALPHA + 3 * se));
         assertTrue(noHarm <= atMargin, () -> String.format("no harm %.4f should not reject more than at margin %.4f",
                 noHarm, atMargin));
     }
@@ -124,6 +146,19 @@ class GuardrailMixtureSprtTest {
         }
         assertEquals(looks.length, state.looks());
         assertEquals(1.0, LOAD_TIME.start().pValue(), 0.0);
+    }
+
+    @Test
+    void resume_fromStoredFields_continuesExactlyAsAnUninterruptedState() {
+        GuardrailMixtureSprt.State early = LOAD_TIME.start().update(0.2, 0.01).update(0.1, 0.004);
+        GuardrailMixtureSprt.State resumed = LOAD_TIME.resume(early.looks(), early.pValue(), early.harmLowerBound());
+        GuardrailMixtureSprt.State straight = early.update(0.12, 0.002);
+        GuardrailMixtureSprt.State continued = resumed.update(0.12, 0.002);
+        assertEquals(straight.looks(), continued.looks());
+        assertEquals(straight.pValue(), continued.pValue(), 0.0);
+        assertEquals(straight.harmLowerBound(), continued.harmLowerBound(), 0.0);
+        assertEquals(Double.NEGATIVE_INFINITY, LOAD_TIME.resume(0, 1, Double.NEGATIVE_INFINITY).harmLowerBound());
+        assertMessage("must be finite or -Infinity", () -> LOAD_TIME.resume(3, 0.2, Double.NaN));
     }
 
     @Test

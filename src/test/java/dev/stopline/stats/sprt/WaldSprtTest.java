@@ -160,8 +160,102 @@ class WaldSprtTest {
             double bound = ((ocHi - ocLo) * (TEST.logUpper() - TEST.logLower()) + Math.max(up, -down)) / Math.abs(step);
             double nSe = n.getStandardDeviation() / Math.sqrt(runs);
             assertEquals(asnWald, n.getMean(), bound + 3 * nSe, String.format(
-                    "p=%.3f ASN sim %.2f +- %.2f, Wald %.2f, overshoot allowance %.2f", p, n.getMean(), nSe, asnWald, bound));
+                    "p=%.3f ASN sim %.2f +- %.2f, Wald %.2f, overshoot allowance %.2f",
+                    p, n.getMean(), nSe, asnWald, bound));
         }
+    }
+
+    /**
+     * The exact OC and ASN of the Bernoulli test, by propagating the probability of every continuing
+     * (trials, successes) state until the continuing mass is below 1e-13 (a reference that neglects
+     * nothing). Checks: the exact values lie inside the overshoot brackets derived from Wald's identity
+     * (deterministic), Wald's ASN lies within its overshoot allowance of the exact ASN, and the seeded
+     * simulation of 20000 runs agrees with the exact values within 3 SE, which Wald's values need not.
+     */
+    @ParameterizedTest(name = "true rate {0}")
+    @ValueSource(doubles = {0.08, 0.10, 0.125, 0.15, 0.18})
+    void exactOcAndAsn_byStatePropagation_bracketWaldAndMatchSimulation(double p) {
+        double[] exact = exactOcAndAsn(p, 100_000);
+        assertTrue(exact[2] < 1e-13, "continuing mass left " + exact[2]);
+        double up = Math.max(RATE.successStep(), RATE.failureStep());
+        double down = Math.min(RATE.successStep(), RATE.failureStep());
+        double h = RATE.h(p);
+        double ocLo = WaldSprt.Bernoulli.oc(h, TEST.logUpper(), TEST.logLower() + down);
+        double ocHi = WaldSprt.Bernoulli.oc(h, TEST.logUpper() + up, TEST.logLower());
+        assertTrue(ocLo <= exact[0] && exact[0] <= ocHi,
+                String.format("exact OC %.5f outside overshoot bracket [%.5f, %.5f]", exact[0], ocLo, ocHi));
+        double step = RATE.expectedStep(p);
+        if (Math.abs(step) > 0.002) {
+            double bound = ((ocHi - ocLo) * (TEST.logUpper() - TEST.logLower()) + Math.max(up, -down))
+                    / Math.abs(step);
+            assertEquals(RATE.averageSampleNumber(p), exact[1], bound, "Wald ASN vs exact, overshoot allowance");
+        }
+        SplittableRandom rnd = new SplittableRandom(4711 + Math.round(p * 1000));
+        int runs = 20_000;
+        int acceptH0 = 0;
+        SummaryStatistics n = new SummaryStatistics();
+        for (int r = 0; r < runs; r++) {
+            long s = 0;
+            long t = 0;
+            SprtDecision decision = SprtDecision.CONTINUE;
+            while (decision == SprtDecision.CONTINUE) {
+                t++;
+                s += rnd.nextDouble() < p ? 1 : 0;
+                decision = RATE.decide(s, t);
+            }
+            acceptH0 += decision == SprtDecision.ACCEPT_H0 ? 1 : 0;
+            n.addValue(t);
+        }
+        double oc = (double) acceptH0 / runs;
+        double ocSe = Math.sqrt(exact[0] * (1 - exact[0]) / runs);
+        assertEquals(exact[0], oc, 3 * ocSe, "simulated OC vs exact, 3 SE");
+        assertEquals(exact[1], n.getMean(), 3 * n.getStandardDeviation() / Math.sqrt(runs),
+                "simulated ASN vs exact, 3 SE");
+    }
+
+    /** {P(accept H0), E[N], continuing mass left} for true rate p; decisions from the class under test. */
+    private static double[] exactOcAndAsn(double p, int maxTrials) {
+        double[] mass = new double[maxTrials + 2];
+        double[] next = new double[maxTrials + 2];
+        mass[0] = 1;
+        int lo = 0;
+        int hi = 0;
+        double acceptH0 = 0;
+        double asn = 0;
+        double left = 1;
+        for (int t = 1; t <= maxTrials && left >= 1e-13; t++) {
+            for (int s = lo; s <= hi + 1; s++) {
+                next[s] = (s <= hi ? mass[s] * (1 - p) : 0) + (s > lo ? mass[s - 1] * p : 0);
+            }
+            int newLo = Integer.MAX_VALUE;
+            int newHi = -1;
+            left = 0;
+            for (int s = lo; s <= hi + 1; s++) {
+                mass[s] = 0;
+                if (next[s] == 0) {
+                    continue;
+                }
+                SprtDecision d = RATE.decide(s, t);
+                if (d == SprtDecision.CONTINUE) {
+                    newLo = Math.min(newLo, s);
+                    newHi = s;
+                    left += next[s];
+                } else {
+                    asn += t * next[s];
+                    acceptH0 += d == SprtDecision.ACCEPT_H0 ? next[s] : 0;
+                }
+            }
+            for (int s = lo; s <= hi + 1; s++) {
+                mass[s] = RATE.decide(s, t) == SprtDecision.CONTINUE ? next[s] : 0;
+                next[s] = 0;
+            }
+            lo = newLo;
+            hi = newHi;
+            if (newHi < 0) {
+                break;
+            }
+        }
+        return new double[] {acceptH0, asn, left};
     }
 
     @Test
