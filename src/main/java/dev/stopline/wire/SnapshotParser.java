@@ -260,9 +260,13 @@ public final class SnapshotParser {
         }
         double d = n.doubleValue();
         if (!(d >= 0 && d <= max)) {
-            throw reject(Reason.INVALID_VALUE, at + ": must be in [0, " + (float) max + "], got " + n.asText());
+            throw reject(Reason.INVALID_VALUE, at + ": must be in [0, " + label(max) + "], got " + n.asText());
         }
         return d;
+    }
+
+    private static String label(double max) {
+        return max == ABSURD ? "1e15" : max == ABSURD_SQUARED ? "1e30" : Long.toString((long) max);
     }
 
     private static String type(JsonNode n) {
