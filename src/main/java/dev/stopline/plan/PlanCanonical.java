@@ -22,7 +22,8 @@ import java.util.List;
  * {@code Double.toString}), whole-number fields as integers, looks written as the integer K when they
  * are exactly k/K and as a list otherwise, a guardrail's tau written as its effective value. Two plans
  * with the same meaning therefore have the same canonical JSON and the same {@link #sha256 hash};
- * comments, key order and quoting style in the source file do not matter.
+ * comments, key order and quoting style in the source file do not matter. Description and owner are
+ * part of the content, so editing them is an amendment too.
  */
 public final class PlanCanonical {
     private static final JsonNodeFactory NODES = JsonNodeFactory.instance;

@@ -150,9 +150,9 @@ class SnapshotParserTest {
         byte[] small = bytes(VALID);
         byte[] ratio = bytes(Records.withRatio(43, 20000, 1600));
         byte[] big = bytes(bigRecord(10, 1000));
-        report.publishEntry("referenceRecord", perRecord(small, 200_000));
-        report.publishEntry("ratioRecord", perRecord(ratio, 100_000));
-        report.publishEntry("bigRecord", perRecord(big, 40));
+        report.publishEntry("referenceRecord", perRecord(small, 50_000));
+        report.publishEntry("ratioRecord", perRecord(ratio, 20_000));
+        report.publishEntry("bigRecord", perRecord(big, 8));
     }
 
     private String perRecord(byte[] record, int n) {
