@@ -80,6 +80,8 @@ class SnapshotParserTest {
                         "/arms/control/metrics/orders/sumOfSquares: 64.0 is below sum^2/units = 64.42"),
                 bad(VALID.replace("\"units\":10234", "\"units\":0"), Reason.INVALID_VALUE, "units is 0 but the sums are 812.0 and 812.0"),
                 bad(VALID.replace("\"sequence\":42", "\"sequence\":-1"), Reason.INVALID_VALUE, "/sequence: must be in [0,"),
+                bad(VALID.replace("\"sequence\":42", "\"sequence\":9223372036854775808"), Reason.INVALID_VALUE,
+                        "/sequence: must be in [0, 9223372036854775807], got 9223372036854775808"), // Long.MAX_VALUE + 1
                 bad(VALID.replace("2027-03-04T10:00:00Z", "2027-03-04 10:00"), Reason.INVALID_VALUE, "/observedAt: \"2027-03-04 10:00\" is not an ISO-8601"),
                 bad(VALID.replace("\"experiment\":\"checkout-redesign\"", "\"experiment\":\"Checkout Redesign\""), Reason.INVALID_VALUE,
                         "/experiment: \"Checkout Redesign\" does not match"),
