@@ -83,8 +83,8 @@ class PlanValidatorTest {
     }
 
     @ParameterizedTest(name = "{2}")
-    @MethodSource
-    void oneBrokenRule(String from, String to, String expected) {
+    @MethodSource("oneBrokenRule")
+    void oneBrokenRule_isReportedAlone(String from, String to, String expected) {
         String yaml = VALID.replace(from, to);
         assertTrue(!yaml.equals(VALID), "the test case must change the plan");
         assertEquals(List.of(expected), problems(yaml));
