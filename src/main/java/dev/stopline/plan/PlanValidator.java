@@ -108,8 +108,9 @@ public final class PlanValidator {
         if (!required("allocation", a)) {
             return;
         }
-        if (a.size() < 2) {
-            add("allocation", "needs at least 2 arms, got " + a.size());
+        if (a.size() != 2) {
+            add("allocation", "needs exactly 2 arms (a control and one treatment; run one plan per treatment "
+                    + "to compare more), got " + a.size());
         }
         double sum = 0;
         boolean complete = true;

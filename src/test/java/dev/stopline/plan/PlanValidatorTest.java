@@ -25,7 +25,7 @@ class PlanValidatorTest {
                 Arguments.of("alpha: 0.05", "alpha: 1.5", "primary.alpha: must be in (0, 1), got 1.5"),
                 Arguments.of("{control: 0.5, treatment: 0.5}", "{control: 0.5, treatment: 0.4}",
                         "allocation: weights must sum to 1, got 0.9"),
-                Arguments.of("{control: 0.5, treatment: 0.5}", "{control: 1.0}", "allocation: needs at least 2 arms, got 1"),
+                Arguments.of("{control: 0.5, treatment: 0.5}", "{control: 1.0}", "allocation: needs exactly 2 arms (a control and one treatment; run one plan per treatment to compare more), got 1"),
                 Arguments.of("{control: 0.5, treatment: 0.5}", "{control: 1.0, treatment: 0}",
                         "allocation.treatment: must be finite and > 0, got 0"),
                 Arguments.of("control: control", "control: ctrl",

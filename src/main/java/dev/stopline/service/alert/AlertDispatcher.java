@@ -1,0 +1,202 @@
+package dev.stopline.service.alert;
+
+import com.fasterxml.jackson.core.type.TypeReference;
+import dev.stopline.monitor.Alert;
+import dev.stopline.service.store.Json;
+import dev.stopline.service.store.Store;
+import io.quarkus.runtime.ShutdownEvent;
+import io.quarkus.runtime.StartupEvent;
+import io.smallrye.reactive.messaging.kafka.api.OutgoingKafkaRecordMetadata;
+import jakarta.enterprise.context.ApplicationScoped;
+import jakarta.enterprise.event.Observes;
+import jakarta.inject.Inject;
+import java.net.URI;
+import java.nio.charset.StandardCharsets;
+import java.time.Clock;
+import java.time.Duration;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Map;
+import java.util.Optional;
+import java.util.concurrent.CompletableFuture;
+import java.util.concurrent.Executors;
+import java.util.concurrent.ScheduledExecutorService;
+import java.util.concurrent.TimeUnit;
+import org.apache.kafka.common.header.internals.RecordHeaders;
+import org.eclipse.microprofile.config.inject.ConfigProperty;
+import org.eclipse.microprofile.reactive.messaging.Channel;
+import org.eclipse.microprofile.reactive.messaging.Emitter;
+import org.eclipse.microprofile.reactive.messaging.Message;
+import org.eclipse.microprofile.reactive.messaging.Metadata;
+import org.jboss.logging.Logger;
+
+/**
+ * Delivers alerts from the transactional outbox to every channel: the alert topic as CloudEvents,
+ * each configured webhook (Standard Webhooks signing, retries with backoff and jitter, 410 disables,
+ * 429 honours Retry-After), and one structured log line.
+ *
+ * <p>An alert row and its outbox rows are written in the same transaction as the look that raised
+ * it; this dispatcher only reads due outbox rows and records each attempt. A delivery that fails stays
+ * pending and is tried again later, across restarts: nothing is lost while a channel is down. A
+ * channel that succeeded is marked delivered and never sent again.
+ */
+@ApplicationScoped
+public class AlertDispatcher {
+    private static final Logger LOG = Logger.getLogger(AlertDispatcher.class);
+    private static final Logger ALERTS = Logger.getLogger("stopline.alert");
+    static final String KAFKA = "kafka";
+    static final String LOG_CHANNEL = "log";
+    static final String WEBHOOK = "webhook:";
+
+    private final Store store;
+    private final Clock clock;
+    private final Emitter<String> alertTopic;
+    private final CloudEvents events;
+    private final WebhookDelivery webhooks;
+    private final List<String> channels;
+    private final Duration retryLater;
+    private ScheduledExecutorService executor;
+
+    @Inject
+    public AlertDispatcher(Store store, Clock clock, @Channel("alerts") Emitter<String> alertTopic,
+                           @ConfigProperty(name = "stopline.instance", defaultValue = "stopline") String instance,
+                           @ConfigProperty(name = "stopline.webhooks.urls") Optional<List<URI>> webhookUrls,
+                           @ConfigProperty(name = "stopline.webhooks.secret") Optional<String> webhookSecret,
+                           @ConfigProperty(name = "stopline.webhooks.retry-later", defaultValue = "PT1M") Duration retryLater) {
+        this.store = store;
+        this.clock = clock;
+        this.alertTopic = alertTopic;
+        this.events = CloudEvents.forInstance(instance);
+        this.retryLater = retryLater;
+        List<String> ch = new ArrayList<>(List.of(LOG_CHANNEL, KAFKA));
+        WebhookDelivery.Builder b = WebhookDelivery.builder(events).clock(clock);
+        for (URI url : webhookUrls.orElse(List.of())) {
+            String secret = webhookSecret.orElseThrow(() -> new IllegalStateException(
+                    "stopline.webhooks.urls is set but stopline.webhooks.secret (STOPLINE_WEBHOOKS_SECRET) is not"));
+            b.endpoint(url, secret);
+            ch.add(WEBHOOK + url);
+        }
+        this.webhooks = b.build();
+        this.channels = List.copyOf(ch);
+    }
+
+    /** The channels every new alert is queued for. */
+    public List<String> channels() {
+        return channels;
+    }
+
+    void onStart(@Observes StartupEvent ev) {
+        executor = Executors.newSingleThreadScheduledExecutor(r -> {
+            Thread t = new Thread(r, "stopline-alert-dispatcher");
+            t.setDaemon(true);
+            return t;
+        });
+        executor.scheduleWithFixedDelay(this::drainSafely, 1, 1, TimeUnit.SECONDS);
+    }
+
+    void onStop(@Observes ShutdownEvent ev) {
+        if (executor != null) {
+            executor.shutdownNow();
+        }
+    }
+
+    /** Asks for a delivery round now (a new alert was committed). */
+    public void wake() {
+        if (executor != null && !executor.isShutdown()) {
+            executor.execute(this::drainSafely);
+        }
+    }
+
+    private void drainSafely() {
+        try {
+            drain();
+        } catch (RuntimeException e) {
+            LOG.warnf("alert delivery round failed, will retry: %s", e.getMessage());
+        }
+    }
+
+    /** Delivers every due outbox row once; returns how many were delivered. */
+    public synchronized int drain() {
+        int delivered = 0;
+        for (Store.OutboxItem item : store.dueDeliveries(clock.instant(), 100)) {
+            if (deliver(item)) {
+                delivered++;
+            }
+        }
+        return delivered;
+    }
+
+    private boolean deliver(Store.OutboxItem item) {
+        Alert alert = item.alert();
+        try {
+            if (LOG_CHANNEL.equals(item.channel())) {
+                ALERTS.infof("%s %s", alert.kind().wireName(), Json.write(Map.of("id", alert.id(),
+                        "experiment", alert.experiment(), "kind", alert.kind().wireName(), "summary", alert.summary())));
+                return done(item);
+            }
+            byte[] body = events.toBytes(envelope(alert));
+            if (KAFKA.equals(item.channel())) {
+                sendToTopic(alert, new String(body, StandardCharsets.UTF_8));
+                return done(item);
+            }
+            if (item.channel().startsWith(WEBHOOK)) {
+                URI url = URI.create(item.channel().substring(WEBHOOK.length()));
+                EndpointResult r = webhooks.deliverTo(url, alert.id(), body, CloudEvents.STRUCTURED_CONTENT_TYPE);
+                switch (r.state()) {
+                    case DELIVERED, SKIPPED_ALREADY_DELIVERED:
+                        return done(item);
+                    case ENDPOINT_GONE, SKIPPED_DISABLED, REJECTED:
+                        store.recordAttempt(item.alertId(), item.channel(), "abandoned", null,
+                                "endpoint answered " + r.state() + "; not retried", clock.instant());
+                        return false;
+                    default:
+                        retry(item, "gave up for now after " + r.attempts().size() + " attempts");
+                        return false;
+                }
+            }
+            store.recordAttempt(item.alertId(), item.channel(), "abandoned", null, "unknown channel", clock.instant());
+            return false;
+        } catch (RuntimeException e) {
+            retry(item, e.getMessage());
+            return false;
+        }
+    }
+
+    private boolean done(Store.OutboxItem item) {
+        store.recordAttempt(item.alertId(), item.channel(), "delivered", null, null, clock.instant());
+        return true;
+    }
+
+    private void retry(Store.OutboxItem item, String error) {
+        store.recordAttempt(item.alertId(), item.channel(), "pending", clock.instant().plus(retryLater), error,
+                clock.instant());
+    }
+
+    private void sendToTopic(Alert alert, String cloudEvent) {
+        RecordHeaders headers = new RecordHeaders();
+        headers.add("content-type", CloudEvents.STRUCTURED_CONTENT_TYPE.getBytes(StandardCharsets.UTF_8));
+        OutgoingKafkaRecordMetadata<String> meta = OutgoingKafkaRecordMetadata.<String>builder()
+                .withKey(alert.experiment()).withHeaders(headers).build();
+        CompletableFuture<Void> acked = new CompletableFuture<>();
+        alertTopic.send(Message.of(cloudEvent, Metadata.of(meta))
+                .withAck(() -> {
+                    acked.complete(null);
+                    return CompletableFuture.completedFuture(null);
+                })
+                .withNack(e -> {
+                    acked.completeExceptionally(e);
+                    return CompletableFuture.completedFuture(null);
+                }));
+        try {
+            acked.get(30, TimeUnit.SECONDS);
+        } catch (Exception e) {
+            throw new IllegalStateException("alert topic write failed: " + e.getMessage(), e);
+        }
+    }
+
+    static AlertEnvelope envelope(Alert alert) {
+        Map<String, Object> payload = Json.MAPPER.convertValue(alert, new TypeReference<Map<String, Object>>() { });
+        return new AlertEnvelope(alert.id(), alert.experiment(), AlertEnvelope.Kind.ofCode(alert.kind().wireName()),
+                alert.observedAt(), payload);
+    }
+}

@@ -1,0 +1,180 @@
+package dev.stopline.service.ingest;
+
+import dev.stopline.monitor.Alert;
+import dev.stopline.monitor.Decision;
+import dev.stopline.monitor.LookRecord;
+import dev.stopline.monitor.MonitorState;
+import dev.stopline.monitor.Monitoring;
+import dev.stopline.service.alert.AlertDispatcher;
+import dev.stopline.service.plans.PlanRegistry;
+import dev.stopline.service.store.Store;
+import dev.stopline.service.support.StoplineMetrics;
+import dev.stopline.wire.SnapshotParser;
+import jakarta.enterprise.context.ApplicationScoped;
+import jakarta.inject.Inject;
+import java.time.Clock;
+import java.time.Duration;
+import java.util.List;
+import java.util.Map;
+import java.util.concurrent.ConcurrentHashMap;
+import org.apache.kafka.clients.consumer.ConsumerRecord;
+import org.eclipse.microprofile.config.inject.ConfigProperty;
+import org.jboss.logging.Logger;
+
+/**
+ * What happens to one record of the counts topic: the pure {@link Monitoring} pipeline decides,
+ * this class makes the decision durable (database transaction, dead-letter topic), counts it and
+ * wakes the alert dispatcher.
+ *
+ * <p>Exactly-once effect on top of at-least-once delivery: each experiment's stored state remembers
+ * the partition and offset it was last advanced from; a record at or below that offset (a redelivery
+ * after a crash or a rebalance) is acknowledged without any effect. The database write and the state
+ * change are one transaction, so there is no window in which a look is stored but the state is not.
+ *
+ * <p>When the database is unavailable the consumer does not drop anything: the record is retried
+ * with capped backoff, which holds the partition until the database is back.
+ */
+@ApplicationScoped
+public class CountsIngest {
+    private static final Logger LOG = Logger.getLogger(CountsIngest.class);
+    private static final Duration MAX_BACKOFF = Duration.ofSeconds(5);
+
+    private final Store store;
+    private final PlanRegistry plans;
+    private final DeadLetterPublisher deadLetters;
+    private final AlertDispatcher dispatcher;
+    private final StoplineMetrics metrics;
+    private final Clock clock;
+    private final Monitoring monitoring;
+    private final Map<String, Store.StoredState> cache = new ConcurrentHashMap<>();
+
+    @Inject
+    public CountsIngest(Store store, PlanRegistry plans, DeadLetterPublisher deadLetters, AlertDispatcher dispatcher,
+                        StoplineMetrics metrics, Clock clock,
+                        @ConfigProperty(name = "stopline.counts.max-bytes", defaultValue = "1048576") int maxBytes) {
+        this.store = store;
+        this.plans = plans;
+        this.deadLetters = deadLetters;
+        this.dispatcher = dispatcher;
+        this.metrics = metrics;
+        this.clock = clock;
+        this.monitoring = new Monitoring(SnapshotParser.withDefaults().withMaxBytes(maxBytes), plans::monitor);
+    }
+
+    /** Handles one record; returns only when its effect is durable. */
+    public void accept(ConsumerRecord<String, byte[]> record) {
+        long backoff = 100;
+        while (true) {
+            try {
+                handle(record);
+                return;
+            } catch (Store.StoreException e) {
+                cache.clear();
+                if (!store.reachable()) {
+                    LOG.warnf("database unavailable (%s); holding %s-%d@%d and retrying in %d ms", e.getMessage(),
+                            record.topic(), record.partition(), record.offset(), backoff);
+                    sleep(backoff);
+                    backoff = Math.min(MAX_BACKOFF.toMillis(), backoff * 2);
+                    continue;
+                }
+                quarantine(record, e);
+                return;
+            } catch (RuntimeException e) {
+                quarantine(record, e);
+                return;
+            }
+        }
+    }
+
+    /**
+     * A record that valid-looking input made the evaluator or the database refuse (a defect, not bad
+     * input we know how to name): dead-lettered with reason {@code evaluation-error} so that the
+     * consumer keeps going and nothing is lost.
+     */
+    private void quarantine(ConsumerRecord<String, byte[]> record, RuntimeException e) {
+        LOG.errorf(e, "could not evaluate %s-%d@%d; dead-lettered as evaluation-error", record.topic(),
+                record.partition(), record.offset());
+        deadLetters.publish(record, "evaluation-error", String.valueOf(e.getMessage()));
+        metrics.deadLetter("evaluation-error");
+    }
+
+    private void handle(ConsumerRecord<String, byte[]> record) {
+        String key = record.key();
+        Store.StoredState stored = key == null ? null : stored(key);
+        if (stored != null && stored.position().covers(record.partition(), record.offset())) {
+            metrics.snapshot("redelivered");
+            return;
+        }
+        long started = System.nanoTime();
+        Monitoring.Step step = monitoring.process(record.value(), key, id -> {
+            Store.StoredState s = stored(id);
+            return s == null ? null : s.state();
+        });
+        Store.Position position = new Store.Position(record.partition(), record.offset());
+        if (step instanceof Monitoring.Rejected r) {
+            deadLetters.publish(record, r.rejection().reason().code(), r.rejection().detail());
+            metrics.deadLetter(r.rejection().reason().code());
+            LOG.debugf("dead-lettered %s-%d@%d: %s: %s", record.topic(), record.partition(), record.offset(),
+                    r.rejection().reason().code(), r.rejection().detail());
+        } else if (step instanceof Monitoring.Duplicate d) {
+            metrics.snapshot("duplicate");
+            store.advancePosition(d.snapshot().experiment(), position, clock.instant());
+            Store.StoredState s = cache.get(d.snapshot().experiment());
+            if (s != null) {
+                cache.put(d.snapshot().experiment(), new Store.StoredState(s.state(), position, s.status(),
+                        clock.instant()));
+            }
+        } else if (step instanceof Monitoring.Evaluated e) {
+            MonitorState next = e.evaluation().state();
+            String status = status(next, e.evaluation().looks());
+            List<Alert> fresh = store.commitEvaluation(e.evaluation(), status, position, dispatcher.channels(),
+                    clock.instant());
+            cache.put(next.experiment(), new Store.StoredState(next, position, status, clock.instant()));
+            metrics.evaluated(e, System.nanoTime() - started);
+            for (Alert a : fresh) {
+                metrics.alert(a.kind().wireName());
+                LOG.debugf("alert raised: %s", a.summary());
+            }
+            if (!fresh.isEmpty()) {
+                dispatcher.wake();
+            }
+        }
+    }
+
+    private Store.StoredState stored(String experiment) {
+        Store.StoredState s = cache.get(experiment);
+        if (s == null) {
+            s = store.state(experiment).orElse(null);
+            if (s != null) {
+                cache.put(experiment, s);
+            }
+        }
+        return s;
+    }
+
+    /** The experiment's status for lists and the status page. */
+    static String status(MonitorState s, List<LookRecord> looks) {
+        if (s.primaryDecision() != null) {
+            return s.primaryDecision().wireName();
+        }
+        boolean harm = s.guardrails().values().stream().anyMatch(MonitorState.MixtureMemo::alerted);
+        if (harm) {
+            return Decision.GUARDRAIL_HARM.wireName();
+        }
+        return s.sampleRatioMismatch() ? Decision.SAMPLE_RATIO_MISMATCH.wireName() : "running";
+    }
+
+    /** Forgets cached states (after a partition is revoked, another instance may advance them). */
+    public void forget() {
+        cache.clear();
+    }
+
+    private static void sleep(long millis) {
+        try {
+            Thread.sleep(millis);
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
+            throw new IllegalStateException("interrupted while waiting for the database", e);
+        }
+    }
+}

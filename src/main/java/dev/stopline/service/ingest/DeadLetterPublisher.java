@@ -1,0 +1,76 @@
+package dev.stopline.service.ingest;
+
+import io.smallrye.reactive.messaging.kafka.api.OutgoingKafkaRecordMetadata;
+import jakarta.enterprise.context.ApplicationScoped;
+import jakarta.inject.Inject;
+import java.nio.charset.StandardCharsets;
+import java.util.concurrent.CompletableFuture;
+import java.util.concurrent.ExecutionException;
+import java.util.concurrent.TimeUnit;
+import java.util.concurrent.TimeoutException;
+import org.apache.kafka.clients.consumer.ConsumerRecord;
+import org.apache.kafka.common.header.internals.RecordHeaders;
+import org.eclipse.microprofile.reactive.messaging.Channel;
+import org.eclipse.microprofile.reactive.messaging.Emitter;
+import org.eclipse.microprofile.reactive.messaging.Message;
+import org.eclipse.microprofile.reactive.messaging.Metadata;
+
+/**
+ * Writes rejected records to the dead-letter topic ({@code stopline.counts.dlq} by default) with the
+ * original key and value and headers that say why: {@code stopline-reason} (a stable code such as
+ * {@code out-of-order}), {@code stopline-detail} (a sentence), and where the record came from
+ * ({@code stopline-source-topic}, {@code -partition}, {@code -offset}).
+ *
+ * <p>The send is awaited before the original record is acknowledged, so a rejected record is never
+ * lost between the two topics: if the dead-letter write fails, the consumer sees the failure and the
+ * record is read again.
+ */
+@ApplicationScoped
+public class DeadLetterPublisher {
+    public static final String REASON = "stopline-reason";
+    public static final String DETAIL = "stopline-detail";
+    public static final String SOURCE_TOPIC = "stopline-source-topic";
+    public static final String SOURCE_PARTITION = "stopline-source-partition";
+    public static final String SOURCE_OFFSET = "stopline-source-offset";
+
+    private final Emitter<byte[]> emitter;
+
+    @Inject
+    public DeadLetterPublisher(@Channel("dead-letters") Emitter<byte[]> emitter) {
+        this.emitter = emitter;
+    }
+
+    public void publish(ConsumerRecord<String, byte[]> record, String reason, String detail) {
+        RecordHeaders headers = new RecordHeaders();
+        headers.add(REASON, bytes(reason));
+        headers.add(DETAIL, bytes(detail));
+        headers.add(SOURCE_TOPIC, bytes(record.topic()));
+        headers.add(SOURCE_PARTITION, bytes(Integer.toString(record.partition())));
+        headers.add(SOURCE_OFFSET, bytes(Long.toString(record.offset())));
+        OutgoingKafkaRecordMetadata<String> meta = OutgoingKafkaRecordMetadata.<String>builder()
+                .withKey(record.key()).withHeaders(headers).build();
+        CompletableFuture<Void> done = new CompletableFuture<>();
+        byte[] value = record.value() == null ? new byte[0] : record.value();
+        emitter.send(Message.of(value, Metadata.of(meta))
+                .withAck(() -> {
+                    done.complete(null);
+                    return CompletableFuture.completedFuture(null);
+                })
+                .withNack(e -> {
+                    done.completeExceptionally(e);
+                    return CompletableFuture.completedFuture(null);
+                }));
+        try {
+            done.get(30, TimeUnit.SECONDS);
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
+            throw new IllegalStateException("interrupted while writing a dead letter", e);
+        } catch (ExecutionException | TimeoutException e) {
+            throw new IllegalStateException("dead-letter write failed: " + e.getMessage(), e);
+        }
+    }
+
+    private static byte[] bytes(String s) {
+        return (s == null ? "" : s).getBytes(StandardCharsets.UTF_8);
+    }
+}

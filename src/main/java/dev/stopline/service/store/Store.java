@@ -1,0 +1,471 @@
+package dev.stopline.service.store;
+
+import dev.stopline.monitor.Alert;
+import dev.stopline.monitor.Evaluation;
+import dev.stopline.monitor.LookRecord;
+import dev.stopline.monitor.MonitorState;
+import jakarta.enterprise.context.ApplicationScoped;
+import jakarta.inject.Inject;
+import java.sql.Connection;
+import java.sql.PreparedStatement;
+import java.sql.ResultSet;
+import java.sql.SQLException;
+import java.sql.Timestamp;
+import java.time.Instant;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Optional;
+import javax.sql.DataSource;
+
+/**
+ * Everything Stopline persists, in plain portable SQL (H2 by default, PostgreSQL in production).
+ *
+ * <p>The one write that matters is {@link #commitEvaluation}: state, looks, alerts and their outbox
+ * rows go in one transaction, so a crash leaves either all of a snapshot's effects or none; an alert
+ * whose id already exists is skipped (primary key), so a redelivered record or a second instance can
+ * never alert twice.
+ */
+@ApplicationScoped
+public class Store {
+    private final DataSource ds;
+
+    @Inject
+    public Store(DataSource ds) {
+        this.ds = ds;
+    }
+
+    // ------------------------------------------------------------------ plans
+
+    public record StoredPlan(String experimentId, int version, String planJson, String source, String contentHash,
+                             Instant registeredAt, Instant lockedAt) {
+        public boolean locked() {
+            return lockedAt != null;
+        }
+    }
+
+    public record AuditEntry(long id, String experimentId, Instant at, String actor, String action, int version,
+                             String contentHash, Double alphaSpent, String detail) {
+    }
+
+    public List<StoredPlan> plans() {
+        return query("SELECT experiment_id, version, plan_json, plan_source, content_hash, registered_at, locked_at "
+                + "FROM plan ORDER BY experiment_id", ps -> { }, Store::plan);
+    }
+
+    public Optional<StoredPlan> plan(String experimentId) {
+        return query("SELECT experiment_id, version, plan_json, plan_source, content_hash, registered_at, locked_at "
+                + "FROM plan WHERE experiment_id = ?", ps -> ps.setString(1, experimentId), Store::plan)
+                .stream().findFirst();
+    }
+
+    private static StoredPlan plan(ResultSet rs) throws SQLException {
+        return new StoredPlan(rs.getString(1), rs.getInt(2), rs.getString(3), rs.getString(4), rs.getString(5),
+                instant(rs, 6), instant(rs, 7));
+    }
+
+    /** Inserts a new plan or replaces an unlocked one, with an audit row; returns the stored version. */
+    public int savePlan(String experimentId, String planJson, String source, String hash, String actor,
+                        String action, Double alphaSpent, String detail, Instant now) {
+        return inTransaction(c -> {
+            Optional<StoredPlan> old = planForUpdate(c, experimentId);
+            int version = old.map(p -> p.version() + 1).orElse(1);
+            if (old.isPresent()) {
+                try (PreparedStatement ps = c.prepareStatement("UPDATE plan SET version = ?, plan_json = ?, "
+                        + "plan_source = ?, content_hash = ?, registered_at = ? WHERE experiment_id = ?")) {
+                    ps.setInt(1, version);
+                    ps.setString(2, planJson);
+                    ps.setString(3, source);
+                    ps.setString(4, hash);
+                    ps.setTimestamp(5, Timestamp.from(now));
+                    ps.setString(6, experimentId);
+                    ps.executeUpdate();
+                }
+            } else {
+                try (PreparedStatement ps = c.prepareStatement("INSERT INTO plan (experiment_id, version, plan_json, "
+                        + "plan_source, content_hash, registered_at) VALUES (?, ?, ?, ?, ?, ?)")) {
+                    ps.setString(1, experimentId);
+                    ps.setInt(2, version);
+                    ps.setString(3, planJson);
+                    ps.setString(4, source);
+                    ps.setString(5, hash);
+                    ps.setTimestamp(6, Timestamp.from(now));
+                    ps.executeUpdate();
+                }
+            }
+            audit(c, experimentId, now, actor, action, version, hash, alphaSpent, detail);
+            return version;
+        });
+    }
+
+    private Optional<StoredPlan> planForUpdate(Connection c, String experimentId) throws SQLException {
+        try (PreparedStatement ps = c.prepareStatement("SELECT experiment_id, version, plan_json, plan_source, "
+                + "content_hash, registered_at, locked_at FROM plan WHERE experiment_id = ? FOR UPDATE")) {
+            ps.setString(1, experimentId);
+            try (ResultSet rs = ps.executeQuery()) {
+                return rs.next() ? Optional.of(plan(rs)) : Optional.empty();
+            }
+        }
+    }
+
+    public List<AuditEntry> audit(String experimentId) {
+        return query("SELECT id, experiment_id, at, actor, action, version, content_hash, alpha_spent, detail "
+                        + "FROM plan_audit WHERE experiment_id = ? ORDER BY id", ps -> ps.setString(1, experimentId),
+                rs -> new AuditEntry(rs.getLong(1), rs.getString(2), instant(rs, 3), rs.getString(4), rs.getString(5),
+                        rs.getInt(6), rs.getString(7), (Double) rs.getObject(8), rs.getString(9)));
+    }
+
+    private static void audit(Connection c, String experimentId, Instant at, String actor, String action, int version,
+                              String hash, Double alphaSpent, String detail) throws SQLException {
+        try (PreparedStatement ps = c.prepareStatement("INSERT INTO plan_audit (experiment_id, at, actor, action, "
+                + "version, content_hash, alpha_spent, detail) VALUES (?, ?, ?, ?, ?, ?, ?, ?)")) {
+            ps.setString(1, experimentId);
+            ps.setTimestamp(2, Timestamp.from(at));
+            ps.setString(3, actor);
+            ps.setString(4, action);
+            ps.setInt(5, version);
+            ps.setString(6, hash);
+            if (alphaSpent == null) {
+                ps.setNull(7, java.sql.Types.DOUBLE);
+            } else {
+                ps.setDouble(7, alphaSpent);
+            }
+            ps.setString(8, detail);
+            ps.executeUpdate();
+        }
+    }
+
+    // ------------------------------------------------------------------ monitor state
+
+    /** Where a state was last advanced from: the Kafka partition and offset of the record. */
+    public record Position(Integer partition, Long offset) {
+        public static final Position NONE = new Position(null, null);
+
+        /** Whether a record at {@code partition/offset} was already applied to this state. */
+        public boolean covers(int partition, long offset) {
+            return this.partition != null && this.partition == partition && this.offset != null
+                    && offset <= this.offset;
+        }
+    }
+
+    public record StoredState(MonitorState state, Position position, String status, Instant updatedAt) {
+    }
+
+    public Optional<StoredState> state(String experimentId) {
+        return query("SELECT state_json, source_partition, source_offset, status, updated_at FROM monitor_state "
+                        + "WHERE experiment_id = ?", ps -> ps.setString(1, experimentId),
+                rs -> new StoredState(Json.read(rs.getString(1), MonitorState.class),
+                        new Position((Integer) rs.getObject(2), rs.getObject(3) == null ? null : rs.getLong(3)),
+                        rs.getString(4), instant(rs, 5))).stream().findFirst();
+    }
+
+    public List<StoredState> states() {
+        return query("SELECT state_json, source_partition, source_offset, status, updated_at FROM monitor_state "
+                        + "ORDER BY experiment_id", ps -> { },
+                rs -> new StoredState(Json.read(rs.getString(1), MonitorState.class),
+                        new Position((Integer) rs.getObject(2), rs.getObject(3) == null ? null : rs.getLong(3)),
+                        rs.getString(4), instant(rs, 5)));
+    }
+
+    /**
+     * Stores one evaluation atomically: the new state, its looks, the alerts not seen before and one
+     * outbox row per alert and channel; locks the plan at its first look. Returns the alerts that were
+     * new (the others already existed and are not delivered again).
+     */
+    public List<Alert> commitEvaluation(Evaluation e, String status, Position position, List<String> channels,
+                                        Instant now) {
+        return inTransaction(c -> {
+            MonitorState s = e.state();
+            upsertState(c, s, status, position, now);
+            try (PreparedStatement ps = c.prepareStatement("INSERT INTO look (experiment_id, metric, sequence, role, "
+                    + "look_number, decision, record_json, observed_at, evaluated_at) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)")) {
+                for (LookRecord l : e.looks()) {
+                    ps.setString(1, l.experiment());
+                    ps.setString(2, l.metric());
+                    ps.setLong(3, l.sequence());
+                    ps.setString(4, l.role());
+                    if (l.look() == null) {
+                        ps.setNull(5, java.sql.Types.INTEGER);
+                    } else {
+                        ps.setInt(5, l.look());
+                    }
+                    ps.setString(6, l.decision().wireName());
+                    ps.setString(7, Json.write(l));
+                    ps.setTimestamp(8, Timestamp.from(l.observedAt()));
+                    ps.setTimestamp(9, Timestamp.from(now));
+                    ps.addBatch();
+                }
+                ps.executeBatch();
+            }
+            List<Alert> fresh = new ArrayList<>();
+            for (Alert a : e.alerts()) {
+                if (insertAlert(c, a, now)) {
+                    fresh.add(a);
+                    for (String channel : channels) {
+                        insertOutbox(c, a.id(), channel, now);
+                    }
+                }
+            }
+            boolean primaryLook = e.looks().stream().anyMatch(l -> LookRecord.PRIMARY.equals(l.role()));
+            if (primaryLook) {
+                lockPlan(c, s.experiment(), s.cumulativeAlphaSpent(), now);
+            }
+            return fresh;
+        });
+    }
+
+    /** Advances only the position and last snapshot (a duplicate, or a snapshot with nothing to evaluate). */
+    private static void upsertState(Connection c, MonitorState s, String status, Position position, Instant now)
+            throws SQLException {
+        String json = Json.write(s);
+        try (PreparedStatement ps = c.prepareStatement("UPDATE monitor_state SET last_sequence = ?, source_partition = ?, "
+                + "source_offset = ?, status = ?, state_json = ?, updated_at = ? WHERE experiment_id = ?")) {
+            bindState(ps, s, status, position, json, now);
+            ps.setString(7, s.experiment());
+            if (ps.executeUpdate() == 1) {
+                return;
+            }
+        }
+        try (PreparedStatement ps = c.prepareStatement("INSERT INTO monitor_state (last_sequence, source_partition, "
+                + "source_offset, status, state_json, updated_at, experiment_id) VALUES (?, ?, ?, ?, ?, ?, ?)")) {
+            bindState(ps, s, status, position, json, now);
+            ps.setString(7, s.experiment());
+            ps.executeUpdate();
+        }
+    }
+
+    private static void bindState(PreparedStatement ps, MonitorState s, String status, Position position, String json,
+                                  Instant now) throws SQLException {
+        ps.setLong(1, s.lastSequence());
+        ps.setObject(2, position.partition(), java.sql.Types.INTEGER);
+        ps.setObject(3, position.offset(), java.sql.Types.BIGINT);
+        ps.setString(4, status);
+        ps.setString(5, json);
+        ps.setTimestamp(6, Timestamp.from(now));
+    }
+
+    private static boolean insertAlert(Connection c, Alert a, Instant now) throws SQLException {
+        try (PreparedStatement exists = c.prepareStatement("SELECT 1 FROM alert WHERE alert_id = ?")) {
+            exists.setString(1, a.id());
+            try (ResultSet rs = exists.executeQuery()) {
+                if (rs.next()) {
+                    return false;
+                }
+            }
+        }
+        try (PreparedStatement ps = c.prepareStatement("INSERT INTO alert (alert_id, experiment_id, kind, metric, "
+                + "look_number, sequence, payload_json, created_at) VALUES (?, ?, ?, ?, ?, ?, ?, ?)")) {
+            ps.setString(1, a.id());
+            ps.setString(2, a.experiment());
+            ps.setString(3, a.kind().wireName());
+            ps.setString(4, a.metric());
+            ps.setObject(5, a.lookNumber(), java.sql.Types.INTEGER);
+            ps.setLong(6, a.sequence());
+            ps.setString(7, Json.write(a));
+            ps.setTimestamp(8, Timestamp.from(now));
+            ps.executeUpdate();
+            return true;
+        }
+    }
+
+    private static void insertOutbox(Connection c, String alertId, String channel, Instant now) throws SQLException {
+        try (PreparedStatement ps = c.prepareStatement("INSERT INTO outbox (alert_id, channel, status, attempts, "
+                + "next_attempt_at) VALUES (?, ?, 'pending', 0, ?)")) {
+            ps.setString(1, alertId);
+            ps.setString(2, channel);
+            ps.setTimestamp(3, Timestamp.from(now));
+            ps.executeUpdate();
+        }
+    }
+
+    private static void lockPlan(Connection c, String experimentId, double alphaSpent, Instant now) throws SQLException {
+        try (PreparedStatement ps = c.prepareStatement("UPDATE plan SET locked_at = ? WHERE experiment_id = ? "
+                + "AND locked_at IS NULL")) {
+            ps.setTimestamp(1, Timestamp.from(now));
+            ps.setString(2, experimentId);
+            if (ps.executeUpdate() == 0) {
+                return;
+            }
+        }
+        try (PreparedStatement ps = c.prepareStatement("SELECT version, content_hash FROM plan WHERE experiment_id = ?")) {
+            ps.setString(1, experimentId);
+            try (ResultSet rs = ps.executeQuery()) {
+                rs.next();
+                audit(c, experimentId, now, "stopline", "locked", rs.getInt(1), rs.getString(2), alphaSpent,
+                        "first look evaluated: changes now need an amendment");
+            }
+        }
+    }
+
+    /** Records that a record was seen again (duplicate) without changing the evaluation. */
+    public void advancePosition(String experimentId, Position position, Instant now) {
+        inTransaction(c -> {
+            try (PreparedStatement ps = c.prepareStatement("UPDATE monitor_state SET source_partition = ?, "
+                    + "source_offset = ?, updated_at = ? WHERE experiment_id = ?")) {
+                ps.setObject(1, position.partition(), java.sql.Types.INTEGER);
+                ps.setObject(2, position.offset(), java.sql.Types.BIGINT);
+                ps.setTimestamp(3, Timestamp.from(now));
+                ps.setString(4, experimentId);
+                ps.executeUpdate();
+            }
+            return null;
+        });
+    }
+
+    // ------------------------------------------------------------------ looks and alerts
+
+    public List<LookRecord> looks(String experimentId) {
+        return query("SELECT record_json FROM look WHERE experiment_id = ? ORDER BY sequence, role DESC, metric",
+                ps -> ps.setString(1, experimentId), rs -> Json.read(rs.getString(1), LookRecord.class));
+    }
+
+    public record StoredAlert(Alert alert, Instant createdAt, Instant acknowledgedAt, String acknowledgedBy) {
+    }
+
+    public List<StoredAlert> alerts(String experimentIdOrNull, int limit) {
+        String where = experimentIdOrNull == null ? "" : " WHERE experiment_id = ?";
+        return query("SELECT payload_json, created_at, acknowledged_at, acknowledged_by FROM alert" + where
+                        + " ORDER BY created_at DESC, alert_id LIMIT " + Math.max(1, Math.min(limit, 10_000)),
+                ps -> {
+                    if (experimentIdOrNull != null) {
+                        ps.setString(1, experimentIdOrNull);
+                    }
+                }, rs -> new StoredAlert(Json.read(rs.getString(1), Alert.class), instant(rs, 2), instant(rs, 3),
+                        rs.getString(4)));
+    }
+
+    public Optional<StoredAlert> alert(String alertId) {
+        return query("SELECT payload_json, created_at, acknowledged_at, acknowledged_by FROM alert WHERE alert_id = ?",
+                ps -> ps.setString(1, alertId), rs -> new StoredAlert(Json.read(rs.getString(1), Alert.class),
+                        instant(rs, 2), instant(rs, 3), rs.getString(4))).stream().findFirst();
+    }
+
+    /** Acknowledges an alert; false if there is no such alert. A second acknowledgement keeps the first. */
+    public boolean acknowledge(String alertId, String actor, Instant now) {
+        return inTransaction(c -> {
+            try (PreparedStatement ps = c.prepareStatement("UPDATE alert SET acknowledged_at = COALESCE(acknowledged_at, ?), "
+                    + "acknowledged_by = COALESCE(acknowledged_by, ?) WHERE alert_id = ?")) {
+                ps.setTimestamp(1, Timestamp.from(now));
+                ps.setString(2, actor);
+                ps.setString(3, alertId);
+                return ps.executeUpdate() == 1;
+            }
+        });
+    }
+
+    // ------------------------------------------------------------------ outbox
+
+    public record OutboxItem(String alertId, String channel, int attempts, Alert alert) {
+    }
+
+    /** Pending deliveries that are due, oldest first. */
+    public List<OutboxItem> dueDeliveries(Instant now, int limit) {
+        return query("SELECT o.alert_id, o.channel, o.attempts, a.payload_json FROM outbox o JOIN alert a "
+                        + "ON a.alert_id = o.alert_id WHERE o.status = 'pending' AND o.next_attempt_at <= ? "
+                        + "ORDER BY o.next_attempt_at, o.alert_id LIMIT " + Math.max(1, limit),
+                ps -> ps.setTimestamp(1, Timestamp.from(now)),
+                rs -> new OutboxItem(rs.getString(1), rs.getString(2), rs.getInt(3),
+                        Json.read(rs.getString(4), Alert.class)));
+    }
+
+    /** Records an attempt: {@code status} delivered, pending (retry at {@code nextAttempt}) or abandoned. */
+    public void recordAttempt(String alertId, String channel, String status, Instant nextAttempt, String error,
+                              Instant now) {
+        inTransaction(c -> {
+            try (PreparedStatement ps = c.prepareStatement("UPDATE outbox SET status = ?, attempts = attempts + 1, "
+                    + "next_attempt_at = ?, last_error = ?, delivered_at = ? WHERE alert_id = ? AND channel = ?")) {
+                ps.setString(1, status);
+                ps.setTimestamp(2, Timestamp.from(nextAttempt == null ? now : nextAttempt));
+                ps.setString(3, error == null ? null : error.substring(0, Math.min(error.length(), 2000)));
+                ps.setTimestamp(4, "delivered".equals(status) ? Timestamp.from(now) : null);
+                ps.setString(5, alertId);
+                ps.setString(6, channel);
+                ps.executeUpdate();
+            }
+            return null;
+        });
+    }
+
+    public record DeliveryStatus(String channel, String status, int attempts, String lastError, Instant deliveredAt) {
+    }
+
+    public List<DeliveryStatus> deliveries(String alertId) {
+        return query("SELECT channel, status, attempts, last_error, delivered_at FROM outbox WHERE alert_id = ? "
+                        + "ORDER BY channel", ps -> ps.setString(1, alertId),
+                rs -> new DeliveryStatus(rs.getString(1), rs.getString(2), rs.getInt(3), rs.getString(4),
+                        instant(rs, 5)));
+    }
+
+    /** Whether the database answers now (used to tell an outage from a statement it refuses). */
+    public boolean reachable() {
+        try (Connection c = ds.getConnection()) {
+            return c.isValid(2);
+        } catch (SQLException e) {
+            return false;
+        }
+    }
+
+    // ------------------------------------------------------------------ plumbing
+
+    @FunctionalInterface
+    interface Binder {
+        void bind(PreparedStatement ps) throws SQLException;
+    }
+
+    @FunctionalInterface
+    interface RowMapper<T> {
+        T map(ResultSet rs) throws SQLException;
+    }
+
+    @FunctionalInterface
+    interface Work<T> {
+        T run(Connection c) throws SQLException;
+    }
+
+    private <T> List<T> query(String sql, Binder binder, RowMapper<T> mapper) {
+        try (Connection c = ds.getConnection(); PreparedStatement ps = c.prepareStatement(sql)) {
+            binder.bind(ps);
+            List<T> out = new ArrayList<>();
+            try (ResultSet rs = ps.executeQuery()) {
+                while (rs.next()) {
+                    out.add(mapper.map(rs));
+                }
+            }
+            return out;
+        } catch (SQLException e) {
+            throw new StoreException(e);
+        }
+    }
+
+    private <T> T inTransaction(Work<T> work) {
+        try (Connection c = ds.getConnection()) {
+            boolean auto = c.getAutoCommit();
+            c.setAutoCommit(false);
+            try {
+                T result = work.run(c);
+                c.commit();
+                return result;
+            } catch (SQLException | RuntimeException e) {
+                c.rollback();
+                throw e;
+            } finally {
+                c.setAutoCommit(auto);
+            }
+        } catch (SQLException e) {
+            throw new StoreException(e);
+        }
+    }
+
+    private static Instant instant(ResultSet rs, int column) throws SQLException {
+        Timestamp t = rs.getTimestamp(column);
+        return t == null ? null : t.toInstant();
+    }
+
+    /** The database could not be reached or refused a statement; callers retry rather than drop data. */
+    public static final class StoreException extends RuntimeException {
+        private static final long serialVersionUID = 1L;
+
+        StoreException(SQLException cause) {
+            super(cause.getMessage(), cause);
+        }
+    }
+}

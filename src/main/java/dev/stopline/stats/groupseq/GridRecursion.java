@@ -1,0 +1,259 @@
+package dev.stopline.stats.groupseq;
+
+/**
+ * The numerical-integration recursion for the sub-densities of a group-sequential Z statistic
+ * (Armitage, McPherson &amp; Rowe 1969 [1]; Jennison &amp; Turnbull 2000, ch. 19 [2]). Mutable and
+ * single-threaded: one instance walks forward one look at a time.
+ *
+ * <p>Canonical joint distribution: Z_k ~ N(theta sqrt(t_k), 1), increments of the score
+ * S_k = Z_k sqrt(t_k) independent N(theta (t_k - t_{k-1}), t_k - t_{k-1}). The sub-density of Z_k on
+ * paths that continued at looks 1..k-1 is
+ * <pre>
+ *   h_1(z) = phi(z - theta sqrt t_1)
+ *   h_k(z) = integral over C_{k-1} of h_{k-1}(u) sqrt(t_k / D) phi((z sqrt t_k - u sqrt t_{k-1} - theta D) / sqrt D) du,
+ *   D = t_k - t_{k-1},
+ * </pre>
+ * and the probability of first exit above b at look k is the integral of
+ * {@code h_{k-1}(u) (1 - Phi((b sqrt t_k - u sqrt t_{k-1} - theta D) / sqrt D))} over C_{k-1}.
+ *
+ * <p>Grid (J&amp;T sec. 19.2): with mean mu_k = theta sqrt t_k, the 6r-1 points
+ * <pre>
+ *   x_i = mu_k - 3 - 4 ln(r / i)              i = 1 .. r-1       (log-spaced tails)
+ *   x_i = mu_k - 3 + 3 (i - r) / (2r)         i = r .. 5r        (spacing 1.5/r over mu +- 3)
+ *   x_i = mu_k + 3 + 4 ln(r / (6r - i))       i = 5r+1 .. 6r-1
+ * </pre>
+ * are trimmed to the continuation interval, its finite ends are added, interval midpoints are
+ * inserted and Simpson's weights (d/6, 4d/6, d/6 per interval of length d) are used, so each
+ * interval carries an odd number of points, at most 12r + 1. Adaptation: the continuation region
+ * may be a union of two intervals (two-sided tests with an inner futility region); each interval
+ * gets its own trimmed grid and the weights are concatenated. Per look the density update costs
+ * m_{k-1} m_k exponentials and nothing is allocated: all buffers are sized once.
+ *
+ * <p>References:
+ * <ol>
+ *   <li>Armitage P, McPherson CK, Rowe BC (1969). Repeated significance tests on accumulating data.
+ *       J Royal Statistical Society A 132(2):235-244. doi:10.2307/2343787</li>
+ *   <li>Jennison C, Turnbull BW (2000). Group Sequential Methods with Applications to Clinical
+ *       Trials. Chapman &amp; Hall/CRC, ch. 19.</li>
+ * </ol>
+ */
+final class GridRecursion {
+    /** J&amp;T recommend r = 16 for errors near 1e-6 in the boundaries; we use it by default. */
+    static final int DEFAULT_R = 16;
+
+    private final double theta;
+    private final double[] offsets;
+    private final int capacity;
+
+    // Previous look: points, weight x sub-density, and the shifted score u_i sqrt(t_prev) + theta D.
+    private double[] zPrev;
+    private double[] whPrev;
+    private int mPrev;
+    private double tPrev;
+    private boolean started;
+
+    // Current look.
+    private double t;
+    private double sqrtT;
+    private double sqrtD;
+    private final double[] shift;
+    private double[] zCur;
+    private double[] whCur;
+
+    GridRecursion(double theta, int r) {
+        this.theta = theta;
+        this.offsets = offsets(r);
+        this.capacity = 2 * (12 * r + 3) + 2;
+        this.zPrev = new double[capacity];
+        this.whPrev = new double[capacity];
+        this.zCur = new double[capacity];
+        this.whCur = new double[capacity];
+        this.shift = new double[capacity];
+    }
+
+    private static double[] offsets(int r) {
+        double[] x = new double[6 * r - 1];
+        for (int i = 1; i <= 6 * r - 1; i++) {
+            if (i < r) {
+                x[i - 1] = -3 - 4 * Math.log(r / (double) i);
+            } else if (i <= 5 * r) {
+                x[i - 1] = -3 + 3.0 * (i - r) / (2.0 * r);
+            } else {
+                x[i - 1] = 3 + 4 * Math.log(r / (double) (6 * r - i));
+            }
+        }
+        return x;
+    }
+
+    /** Moves to the next look at information fraction {@code tk} (greater than the last one). */
+    void beginLook(double tk) {
+        t = tk;
+        sqrtT = Math.sqrt(tk);
+        if (started) {
+            double d = tk - tPrev;
+            sqrtD = Math.sqrt(d);
+            double sqrtTPrev = Math.sqrt(tPrev);
+            double drift = theta * d;
+            for (int i = 0; i < mPrev; i++) {
+                shift[i] = zPrev[i] * sqrtTPrev + drift;
+            }
+        }
+    }
+
+    /** P(continue to this look and Z_k &gt; b). */
+    double upperExit(double b) {
+        if (b == Double.POSITIVE_INFINITY) {
+            return 0;
+        }
+        if (!started) {
+            return NormalTail.upper(b - theta * sqrtT);
+        }
+        double bs = b * sqrtT;
+        double inv = 1 / sqrtD;
+        double sum = 0;
+        for (int i = 0; i < mPrev; i++) {
+            sum += whPrev[i] * NormalTail.upper((bs - shift[i]) * inv);
+        }
+        return sum;
+    }
+
+    /** P(continue to this look and Z_k &lt; a). */
+    double lowerExit(double a) {
+        if (a == Double.NEGATIVE_INFINITY) {
+            return 0;
+        }
+        if (!started) {
+            return NormalTail.lower(a - theta * sqrtT);
+        }
+        double as = a * sqrtT;
+        double inv = 1 / sqrtD;
+        double sum = 0;
+        for (int i = 0; i < mPrev; i++) {
+            sum += whPrev[i] * NormalTail.lower((as - shift[i]) * inv);
+        }
+        return sum;
+    }
+
+    /** P(continue to this look and -a &lt; Z_k &lt; a), a &gt;= 0: the inner (two-sided) futility exit. */
+    double innerExit(double a) {
+        if (!(a > 0)) {
+            return 0;
+        }
+        if (!started) {
+            double mu = theta * sqrtT;
+            return Math.max(0, 1 - NormalTail.upper(a - mu) - NormalTail.lower(-a - mu));
+        }
+        double as = a * sqrtT;
+        double inv = 1 / sqrtD;
+        double sum = 0;
+        for (int i = 0; i < mPrev; i++) {
+            double p = 1 - NormalTail.upper((as - shift[i]) * inv) - NormalTail.lower((-as - shift[i]) * inv);
+            sum += whPrev[i] * Math.max(0, p);
+        }
+        return sum;
+    }
+
+    /**
+     * Closes the current look with continuation region (lo1, hi1), plus (lo2, hi2) when
+     * {@code lo2 < hi2} (pass NaN to omit it): builds its grid and the sub-density on it.
+     */
+    void endLook(double lo1, double hi1, double lo2, double hi2) {
+        int m = addInterval(0, lo1, hi1);
+        if (lo2 < hi2) {
+            m = addInterval(m, lo2, hi2);
+        }
+        fillDensity(m);
+        double[] z = zPrev;
+        zPrev = zCur;
+        zCur = z;
+        double[] w = whPrev;
+        whPrev = whCur;
+        whCur = w;
+        mPrev = m;
+        tPrev = t;
+        started = true;
+    }
+
+    /**
+     * Closes the current look with the continuation region of a design: one-sided
+     * {@code (futility, efficacy)} (futility NaN means none); two-sided {@code (-efficacy, efficacy)}
+     * minus the inner futility region {@code [-futility, futility]} when futility &gt; 0.
+     */
+    void endLook(int sides, double efficacy, double futility) {
+        if (sides == 1) {
+            endLook(futility == futility ? futility : Double.NEGATIVE_INFINITY, efficacy, Double.NaN, Double.NaN);
+        } else if (futility > 0) {
+            endLook(-efficacy, -futility, futility, efficacy);
+        } else {
+            endLook(-efficacy, efficacy, Double.NaN, Double.NaN);
+        }
+    }
+
+    /** P(continue past the last closed look): the integral of its sub-density. */
+    double continuationMass() {
+        double s = 0;
+        for (int i = 0; i < mPrev; i++) {
+            s += whPrev[i];
+        }
+        return s;
+    }
+
+    /** Appends the Simpson grid of (lo, hi) to zCur/whCur (weights only) from index m; returns new size. */
+    private int addInterval(int m, double lo, double hi) {
+        double mu = theta * sqrtT;
+        double first = mu + offsets[0];
+        double last = mu + offsets[offsets.length - 1];
+        double a = Math.max(lo, first);
+        double b = Math.min(hi, last);
+        if (!(a < b)) {
+            return m; // empty, or entirely beyond mu +- (3 + 4 ln r): mass below 1e-40
+        }
+        int start = m;
+        zCur[m++] = a;
+        for (double off : offsets) {
+            double x = mu + off;
+            if (x > a && x < b) {
+                m = appendWithMidpoint(m, x);
+            }
+        }
+        m = appendWithMidpoint(m, b);
+        for (int i = start; i < m; i++) {
+            whCur[i] = 0;
+        }
+        for (int i = start; i + 2 < m; i += 2) {
+            double d = zCur[i + 2] - zCur[i];
+            whCur[i] += d / 6;
+            whCur[i + 1] = 4 * d / 6;
+            whCur[i + 2] += d / 6;
+        }
+        return m;
+    }
+
+    private int appendWithMidpoint(int m, double x) {
+        zCur[m] = 0.5 * (zCur[m - 1] + x);
+        zCur[m + 1] = x;
+        return m + 2;
+    }
+
+    /** Multiplies the Simpson weights in whCur by the sub-density at each point. O(mPrev m). */
+    private void fillDensity(int m) {
+        if (!started) {
+            double mu = theta * sqrtT;
+            for (int j = 0; j < m; j++) {
+                whCur[j] *= NormalTail.pdf(zCur[j] - mu);
+            }
+            return;
+        }
+        double c = -0.5 / (sqrtD * sqrtD);
+        double scale = sqrtT / sqrtD / Math.sqrt(2 * Math.PI);
+        for (int j = 0; j < m; j++) {
+            double v = zCur[j] * sqrtT;
+            double sum = 0;
+            for (int i = 0; i < mPrev; i++) {
+                double d = v - shift[i];
+                sum += whPrev[i] * Math.exp(c * d * d);
+            }
+            whCur[j] *= scale * sum;
+        }
+    }
+}
