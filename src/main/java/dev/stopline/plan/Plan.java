@@ -21,7 +21,7 @@ import java.util.Set;
  * @param control     the arm the others are compared with
  * @param primary     the metric that decides the experiment
  * @param guardrails  metrics that may stop the experiment for harm, never declare success; may be empty
- * @param sampleRatio the sample-ratio-mismatch check (always on; alpha 0.001 by default)
+ * @param sampleRatio the sample-ratio-mismatch check (always on; null means the default, alpha 0.001)
  * @param description free text, optional
  * @param owner       who to ask, optional
  */
@@ -38,6 +38,7 @@ public record Plan(
     public Plan {
         allocation = allocation == null ? null : Collections.unmodifiableMap(new LinkedHashMap<>(allocation));
         guardrails = guardrails == null ? List.of() : List.copyOf(guardrails);
+        sampleRatio = sampleRatio == null ? SampleRatio.defaults() : sampleRatio;
     }
 
     /** The arm names, in allocation order. */

@@ -19,10 +19,11 @@ import java.util.List;
  * <p>Canonical JSON: compact, keys in a fixed order (the order of the plan reference), absent
  * optional keys omitted, every default written out (so "alpha omitted" and "alpha: 0.01" give the
  * same text), numbers as the shortest decimal that round-trips a double (Jackson's
- * {@code Double.toString}), whole-number fields as integers, looks written as the integer K when they
+ * {@code Double.toString}), whole-number fields as integers, spending specs in lower case, looks written as the integer K when they
  * are exactly k/K and as a list otherwise, a guardrail's tau written as its effective value. Two plans
  * with the same meaning therefore have the same canonical JSON and the same {@link #sha256 hash};
- * comments, key order and quoting style in the source file do not matter.
+ * comments, key order and quoting style in the source file do not matter. Description and owner are
+ * part of the content, so editing them is an amendment too.
  */
 public final class PlanCanonical {
     private static final JsonNodeFactory NODES = JsonNodeFactory.instance;
@@ -80,7 +81,7 @@ public final class PlanCanonical {
         n.put("method", p.method().key());
         n.put("alpha", p.alpha());
         n.put("sides", p.sides());
-        putIf(n, "spending", p.spending());
+        putIf(n, "spending", spending(p.spending()));
         if (p.boundary() != null) {
             n.put("boundary", p.boundary().key());
         }
@@ -96,7 +97,7 @@ public final class PlanCanonical {
         putIf(n, "baselineMean", p.baselineMean());
         putIf(n, "sd", p.sd());
         if (p.futility() != null) {
-            n.putObject("futility").put("spending", p.futility().spending())
+            n.putObject("futility").put("spending", spending(p.futility().spending()))
                     .put("beta", p.futility().beta()).put("binding", p.futility().binding());
         }
         if (p.sprt() != null) {
@@ -128,6 +129,11 @@ public final class PlanCanonical {
         n.put("alpha", g.alpha());
         n.put("tau", g.mixingSd());
         return n;
+    }
+
+    /** Spending specs are read ignoring case and surrounding blanks, so they are written that way. */
+    private static String spending(String spec) {
+        return spec == null ? null : spec.strip().toLowerCase(java.util.Locale.ROOT);
     }
 
     private static void putIf(ObjectNode n, String key, String value) {

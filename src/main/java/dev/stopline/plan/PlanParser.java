@@ -164,12 +164,13 @@ public final class PlanParser {
         return loc == null || loc.getLineNr() < 0 ? "" : " at line " + loc.getLineNr() + ", column " + loc.getColumnNr();
     }
 
+    /** First line of a parser message, without a leading Java exception class name. */
     private static String firstLine(String s) {
         if (s == null) {
             return "unknown error";
         }
         int nl = s.indexOf('\n');
-        return nl < 0 ? s : s.substring(0, nl);
+        return (nl < 0 ? s : s.substring(0, nl)).replaceFirst("^([a-z]+\\.)+[A-Z]\\w*(Exception|Error): ", "");
     }
 
     private static LoaderOptions loaderOptions() {

@@ -13,7 +13,7 @@ package dev.stopline.plan;
  * @param method         group-sequential, sprt or mixture-sprt
  * @param alpha          overall type I error, in (0, 1)
  * @param sides          1 (treatment better) or 2; default 2 (common practice)
- * @param spending       alpha-spending function (group-sequential), see {@link PlanValidator#spendingProblem}
+ * @param spending       alpha-spending function (group-sequential), grammar of {@code SpendingFunction.of}
  * @param boundary       classical boundary (group-sequential, equally spaced looks); exactly one of spending/boundary
  * @param looks          planned information fractions (group-sequential)
  * @param maxUnitsPerArm maximum units per arm, or null when sized from power

@@ -248,6 +248,9 @@ public final class SnapshotParser {
 
     private static long whole(JsonNode n, String at, long max) {
         double d = amount(n, at, max);
+        if (n.isIntegralNumber() && !n.canConvertToLong()) { // beyond a long, though its double rounds to max
+            throw reject(Reason.INVALID_VALUE, at + ": must be in [0, " + label(max) + "], got " + n.asText());
+        }
         if (d != Math.rint(d)) {
             throw reject(Reason.INVALID_VALUE, at + ": must be a whole number, got " + n.asText());
         }
@@ -260,9 +263,13 @@ public final class SnapshotParser {
         }
         double d = n.doubleValue();
         if (!(d >= 0 && d <= max)) {
-            throw reject(Reason.INVALID_VALUE, at + ": must be in [0, " + (float) max + "], got " + n.asText());
+            throw reject(Reason.INVALID_VALUE, at + ": must be in [0, " + label(max) + "], got " + n.asText());
         }
         return d;
+    }
+
+    private static String label(double max) {
+        return max == ABSURD ? "1e15" : max == ABSURD_SQUARED ? "1e30" : Long.toString((long) max);
     }
 
     private static String type(JsonNode n) {

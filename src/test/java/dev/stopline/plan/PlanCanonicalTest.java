@@ -38,7 +38,7 @@ class PlanCanonicalTest {
                   type: proportion
                   metric: orders
                   alpha: 5.0e-2
-                  spending: obrien-fleming
+                  spending: " OBrien-Fleming"
                   maxUnitsPerArm: 6e4
                   baselineRate: 0.1
                 guardrails:

@@ -178,6 +178,17 @@ class PlanParserTest {
     }
 
     @Test
+    void guardrailThatIsNotAMapping_keepsTheIndicesOfLaterGuardrails() {
+        // the bad item is reported once; the valid item after it is still checked as guardrails[1]
+        String yaml = VALID.replace("guardrails:\n", "guardrails:\n  - page_load_ms\n")
+                .replace("margin: 0.05", "margin: -0.05");
+        assertEquals(List.of("guardrails[0]: must be a mapping, got string \"page_load_ms\"",
+                "guardrails[1].margin: must be finite and >= 0, got -0.05"), problems(yaml));
+        assertEquals(List.of("guardrails: must be a list, got mapping"),
+                problems(VALID.replace("  - {metric: page_load_ms", "  page: {metric: page_load_ms")));
+    }
+
+    @Test
     void rootThatIsNotAMapping_isOneProblem() {
         assertEquals(List.of("(document): must be a mapping of keys to values, got list"), problems("- a\n- b\n"));
         assertEquals(List.of("(document): is empty"), problems("# nothing here\n"));
