@@ -36,7 +36,8 @@ public final class KafkaBrokerExtension implements BeforeAllCallback, ParameterR
     @Override
     public void beforeAll(ExtensionContext context) {
         EmbeddedKafka b = shared();
-        // The root store closes its CloseableResources once, after all tests of the run.
+        // The root store closes its closeable values once, after all tests of the run (AutoCloseable for
+        // JUnit 5.13+, CloseableResource for older; close is idempotent either way).
         context.getRoot().getStore(ExtensionContext.Namespace.GLOBAL)
                 .getOrComputeIfAbsent(KafkaBrokerExtension.class.getName(), k -> new Closer(b), Closer.class);
     }
@@ -120,7 +121,7 @@ public final class KafkaBrokerExtension implements BeforeAllCallback, ParameterR
         }
     }
 
-    private static final class Closer implements ExtensionContext.Store.CloseableResource {
+    private static final class Closer implements ExtensionContext.Store.CloseableResource, AutoCloseable {
         private final EmbeddedKafka b;
 
         Closer(EmbeddedKafka b) {
@@ -132,7 +133,9 @@ public final class KafkaBrokerExtension implements BeforeAllCallback, ParameterR
             synchronized (LOCK) {
                 b.close();
                 deleteTree(b.dataDir());
-                broker = null;
+                if (broker == b) {
+                    broker = null;
+                }
             }
         }
     }

@@ -94,7 +94,9 @@ public final class EmbeddedKafka implements AutoCloseable {
      * every named topic exists with at least its configured partition count.
      *
      * @return this, started
-     * @throws IllegalStateException if already running, or if the broker did not come up in time
+     * @throws IllegalStateException if already running, or if the broker did not come up in time or failed
+     *     to start (e.g. a port in use: the message ends with the root cause); the half-started broker has
+     *     then been shut down (bounded), so {@code start()} may be called again
      */
     public EmbeddedKafka start() {
         synchronized (lock) {
@@ -110,9 +112,11 @@ public final class EmbeddedKafka implements AutoCloseable {
                 s.startup();
                 awaitReadyAndCreateTopics(deadline);
             } catch (RuntimeException e) {
-                LOG.errorf(e, "embedded Kafka failed to start on %s; shutting down", bootstrapServers());
+                String why = rootMessage(e);
+                LOG.warnf("embedded Kafka failed to start on %s (%s); shutting it down", bootstrapServers(), why);
                 boundedShutdown();
-                throw e;
+                throw new IllegalStateException("embedded Kafka failed to start on " + bootstrapServers()
+                        + " (controller port " + config.controllerPort + ", data " + config.dataDir + "): " + why, e);
             }
             LOG.infof("embedded Kafka ready on %s, data in %s", bootstrapServers(), config.dataDir);
             return this;
@@ -333,6 +337,14 @@ public final class EmbeddedKafka implements AutoCloseable {
                 }
             }
         }
+    }
+
+    private static String rootMessage(Throwable e) {
+        Throwable t = e;
+        while (t.getCause() != null && t.getCause() != t) {
+            t = t.getCause();
+        }
+        return t.getClass().getSimpleName() + ": " + t.getMessage();
     }
 
     private static long remainingMs(long deadline) {
