@@ -31,6 +31,7 @@ public final class KafkaBrokerExtension implements BeforeAllCallback, ParameterR
     private static final Logger LOG = Logger.getLogger(KafkaBrokerExtension.class);
     private static final Object LOCK = new Object();
     private static EmbeddedKafka broker;
+    private static final java.util.concurrent.atomic.AtomicInteger EXITS = new java.util.concurrent.atomic.AtomicInteger();
     private static final java.util.List<java.util.logging.Logger> QUIET_CLIENTS = new java.util.ArrayList<>();
 
     @Override
@@ -74,10 +75,12 @@ public final class KafkaBrokerExtension implements BeforeAllCallback, ParameterR
     /** Makes Kafka's exit and halt throw instead of stopping the test JVM. Idempotent. */
     public static void trapExit() {
         Exit.setExitProcedure((code, msg) -> {
+            EXITS.incrementAndGet();
             LOG.errorf("Kafka asked to exit(%d): %s", code, msg);
             throw new IllegalStateException("Kafka exit(" + code + "): " + msg);
         });
         Exit.setHaltProcedure((code, msg) -> {
+            EXITS.incrementAndGet();
             LOG.errorf("Kafka asked to halt(%d): %s", code, msg);
             throw new IllegalStateException("Kafka halt(" + code + "): " + msg);
         });
@@ -98,6 +101,11 @@ public final class KafkaBrokerExtension implements BeforeAllCallback, ParameterR
                 }
             }
         }
+    }
+
+    /** How many times Kafka asked to exit or halt the JVM since the trap was set (a test can assert 0 more). */
+    public static int exitRequests() {
+        return EXITS.get();
     }
 
     /** A fresh temporary directory. */

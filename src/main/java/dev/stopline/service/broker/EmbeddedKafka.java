@@ -5,9 +5,13 @@ import java.io.IOException;
 import java.io.PrintStream;
 import java.io.UncheckedIOException;
 import java.io.Writer;
+import java.nio.channels.FileChannel;
+import java.nio.channels.FileLock;
+import java.nio.channels.OverlappingFileLockException;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
+import java.nio.file.StandardOpenOption;
 import java.time.Duration;
 import java.util.ArrayList;
 import java.util.LinkedHashMap;
@@ -52,6 +56,11 @@ import kafka.tools.StorageTool;
  *   <li>Topics the daemon did not name are auto-created with {@code num.partitions} (default 1),
  *   replication factor 1. The internal topics ({@code __consumer_offsets}, transactions, share groups) get
  *   replication 1 and one partition, so the first consumer group does not wait for 50 partitions.</li>
+ *   <li>The data directory is locked ({@value #LOCK_FILE}) before Kafka touches it. Kafka's own
+ *   {@code .lock} is taken by the broker's log manager only after the KRaft controller has opened the
+ *   metadata log in the same directory: a second instance on a directory in use was seen (test
+ *   {@code secondBroker_onADataDirInUse_failsClearly_andTheFirstKeepsRunning}, before this lock) to read a
+ *   half-written metadata segment, report corruption and call {@code Exit.halt}.</li>
  *   <li>Kafka's shutdown calls {@code Exit.halt} from some fault handlers; this class does not trap that
  *   globally (a real broker would stop the process too). Tests trap it (see the test helper).</li>
  *   <li>Logging: Kafka logs through SLF4J, which in this application is bound to JBoss LogManager (no
@@ -63,6 +72,8 @@ import kafka.tools.StorageTool;
 public final class EmbeddedKafka implements AutoCloseable {
     private static final Logger LOG = Logger.getLogger(EmbeddedKafka.class);
 
+    /** Our lock file inside the data directory (Kafka ignores plain files there). */
+    public static final String LOCK_FILE = "stopline.lock";
     /** Broker-side logger categories; Kafka clients ({@code org.apache.kafka.clients}) are left alone. */
     private static final List<String> BROKER_CATEGORIES = List.of(
             "kafka", "state.change.logger", "org.apache.kafka.server", "org.apache.kafka.controller",
@@ -78,6 +89,7 @@ public final class EmbeddedKafka implements AutoCloseable {
     private final Builder config;
     private final Object lock = new Object();
     private KafkaRaftServer server;
+    private FileLock dirLock;
 
     private EmbeddedKafka(Builder config) {
         this.config = config;
@@ -105,16 +117,21 @@ public final class EmbeddedKafka implements AutoCloseable {
             }
             long deadline = System.nanoTime() + config.startTimeout.toNanos();
             Map<String, String> props = brokerProperties();
-            formatIfNeeded(props);
-            KafkaRaftServer s = new KafkaRaftServer(new KafkaConfig(props, false), Time.SYSTEM);
-            server = s;
+            lockDataDir();
             try {
+                formatIfNeeded(props);
+                KafkaRaftServer s = new KafkaRaftServer(new KafkaConfig(props, false), Time.SYSTEM);
+                server = s;
                 s.startup();
                 awaitReadyAndCreateTopics(deadline);
             } catch (RuntimeException e) {
                 String why = rootMessage(e);
                 LOG.warnf("embedded Kafka failed to start on %s (%s); shutting it down", bootstrapServers(), why);
-                boundedShutdown();
+                if (server != null) {
+                    boundedShutdown();
+                } else {
+                    unlockDataDir();
+                }
                 throw new IllegalStateException("embedded Kafka failed to start on " + bootstrapServers()
                         + " (controller port " + config.controllerPort + ", data " + config.dataDir + "): " + why, e);
             }
@@ -164,8 +181,10 @@ public final class EmbeddedKafka implements AutoCloseable {
         }, config.closeTimeout);
         long ms = TimeUnit.NANOSECONDS.toMillis(System.nanoTime() - t0);
         if (done) {
+            unlockDataDir();
             LOG.infof("embedded Kafka on %s stopped in %d ms", bootstrapServers(), ms);
         } else {
+            // the lock stays held: the abandoned broker may still write to the directory
             LOG.warnf("embedded Kafka on %s abandoned after %d ms: broker threads and the lock on %s may linger"
                     + " until the JVM exits, so a restart on that directory in this JVM may fail",
                     bootstrapServers(), ms, config.dataDir);
@@ -198,8 +217,59 @@ public final class EmbeddedKafka implements AutoCloseable {
         p.put("share.coordinator.state.topic.replication.factor", "1");
         p.put("share.coordinator.state.topic.min.isr", "1");
         p.put("group.initial.rebalance.delay.ms", "0");
+        // Kafka's own bound on waiting for metadata catch-up in startup() (default: forever)
+        p.put("server.max.startup.time.ms", Long.toString(config.startTimeout.toMillis()));
         p.putAll(config.overrides);
         return p;
+    }
+
+    private void lockDataDir() {
+        Path dir = config.dataDir.toAbsolutePath();
+        Path file = dir.resolve(LOCK_FILE);
+        FileChannel ch = null;
+        try {
+            Files.createDirectories(dir);
+            ch = FileChannel.open(file, StandardOpenOption.CREATE, StandardOpenOption.WRITE);
+            FileLock l = ch.tryLock();
+            if (l == null) {
+                throw new IllegalStateException("Kafka data dir " + dir + " is in use by another process (lock "
+                        + file + " held)");
+            }
+            dirLock = l;
+        } catch (OverlappingFileLockException e) {
+            closeQuietly(ch);
+            throw new IllegalStateException("Kafka data dir " + dir + " is in use by another embedded Kafka in"
+                    + " this JVM (lock " + file + " held)", e);
+        } catch (IOException e) {
+            closeQuietly(ch);
+            throw new UncheckedIOException("cannot lock Kafka data dir " + dir, e);
+        } catch (IllegalStateException e) {
+            closeQuietly(ch);
+            throw e;
+        }
+    }
+
+    private void unlockDataDir() {
+        FileLock l = dirLock;
+        dirLock = null;
+        if (l != null) {
+            try {
+                l.release();
+            } catch (IOException e) {
+                LOG.debugf("releasing %s: %s", LOCK_FILE, e);
+            }
+            closeQuietly(l.channel());
+        }
+    }
+
+    private static void closeQuietly(FileChannel ch) {
+        if (ch != null) {
+            try {
+                ch.close();
+            } catch (IOException e) {
+                LOG.debugf("closing lock channel: %s", e);
+            }
+        }
     }
 
     private void formatIfNeeded(Map<String, String> props) {

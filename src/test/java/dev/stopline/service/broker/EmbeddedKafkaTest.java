@@ -126,6 +126,24 @@ class EmbeddedKafkaTest {
     }
 
     @Test
+    void secondBroker_onADataDirInUse_failsClearly_andTheFirstKeepsRunning() throws Exception {
+        dir = KafkaBrokerExtension.tempDir("stopline-kafka-test-");
+        EmbeddedKafka first = track(newBroker(dir).build().start());
+        int exitsBefore = KafkaBrokerExtension.exitRequests();
+        EmbeddedKafka second = newBroker(dir).build();
+
+        IllegalStateException e = assertThrows(IllegalStateException.class, second::start);
+
+        assertTrue(e.getMessage().contains("in use"), e.getMessage());
+        assertFalse(second.isRunning());
+        // regression: without our own lock the second controller read the first's metadata log mid-write,
+        // reported corruption and asked Kafka's Exit to halt the JVM
+        assertEquals(exitsBefore, KafkaBrokerExtension.exitRequests(), "Kafka asked to exit/halt");
+        produce(first, "checkout-redesign.after-lock", "k", "still-fine");
+        assertEquals("still-fine", readFromStart(first, "checkout-redesign.after-lock", 1).get(0).value());
+    }
+
+    @Test
     void start_twice_isRejected_andCloseIsIdempotent() {
         dir = KafkaBrokerExtension.tempDir("stopline-kafka-test-");
         EmbeddedKafka kafka = track(newBroker(dir).build().start());
