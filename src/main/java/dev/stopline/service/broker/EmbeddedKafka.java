@@ -65,8 +65,9 @@ import kafka.tools.StorageTool;
  *   globally (a real broker would stop the process too). Tests trap it (see the test helper).</li>
  *   <li>Logging: Kafka logs through SLF4J, which in this application is bound to JBoss LogManager (no
  *   log4j binding; log4j-core is on the class path only because kafka-server depends on it).
- *   {@link #quietBrokerLogging()} sets the broker-side categories to WARNING where nobody configured a
- *   level, so an explicit {@code quarkus.log.category} setting still wins.</li>
+ *   {@link #start()} calls {@link #quietBrokerLogging()} (unless {@link Builder#quietLogs(boolean)} is
+ *   false), which sets the broker-side categories to WARNING where nobody configured a level, so an
+ *   explicit {@code quarkus.log.category} setting still wins.</li>
  * </ul>
  */
 public final class EmbeddedKafka implements AutoCloseable {
@@ -114,6 +115,9 @@ public final class EmbeddedKafka implements AutoCloseable {
         synchronized (lock) {
             if (server != null) {
                 throw new IllegalStateException("embedded Kafka already running on " + bootstrapServers());
+            }
+            if (config.quietLogs) {
+                quietBrokerLogging();
             }
             long deadline = System.nanoTime() + config.startTimeout.toNanos();
             Map<String, String> props = brokerProperties();
@@ -440,6 +444,7 @@ public final class EmbeddedKafka implements AutoCloseable {
         private final Map<String, String> overrides = new LinkedHashMap<>();
         private Duration startTimeout = Duration.ofSeconds(60);
         private Duration closeTimeout = Duration.ofSeconds(8);
+        private boolean quietLogs = true;
 
         private Builder() {
         }
@@ -507,6 +512,15 @@ public final class EmbeddedKafka implements AutoCloseable {
             return this;
         }
 
+        /**
+         * Whether {@link EmbeddedKafka#start()} calls {@link EmbeddedKafka#quietBrokerLogging()} (default
+         * true; categories with a configured level are left alone either way).
+         */
+        public Builder quietLogs(boolean quiet) {
+            this.quietLogs = quiet;
+            return this;
+        }
+
         /** A broker with these options, not yet started (the builder is copied). */
         public EmbeddedKafka build() {
             if (port == controllerPort) {
@@ -522,6 +536,7 @@ public final class EmbeddedKafka implements AutoCloseable {
             copy.overrides.putAll(overrides);
             copy.startTimeout = startTimeout;
             copy.closeTimeout = closeTimeout;
+            copy.quietLogs = quietLogs;
             return new EmbeddedKafka(copy);
         }
 
