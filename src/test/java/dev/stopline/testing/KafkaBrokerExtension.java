@@ -31,12 +31,14 @@ public final class KafkaBrokerExtension implements BeforeAllCallback, ParameterR
     private static final Logger LOG = Logger.getLogger(KafkaBrokerExtension.class);
     private static final Object LOCK = new Object();
     private static EmbeddedKafka broker;
+    private static final java.util.concurrent.atomic.AtomicInteger EXITS = new java.util.concurrent.atomic.AtomicInteger();
     private static final java.util.List<java.util.logging.Logger> QUIET_CLIENTS = new java.util.ArrayList<>();
 
     @Override
     public void beforeAll(ExtensionContext context) {
         EmbeddedKafka b = shared();
-        // The root store closes its CloseableResources once, after all tests of the run.
+        // The root store closes its closeable values once, after all tests of the run (AutoCloseable for
+        // JUnit 5.13+, CloseableResource for older; close is idempotent either way).
         context.getRoot().getStore(ExtensionContext.Namespace.GLOBAL)
                 .getOrComputeIfAbsent(KafkaBrokerExtension.class.getName(), k -> new Closer(b), Closer.class);
     }
@@ -73,10 +75,12 @@ public final class KafkaBrokerExtension implements BeforeAllCallback, ParameterR
     /** Makes Kafka's exit and halt throw instead of stopping the test JVM. Idempotent. */
     public static void trapExit() {
         Exit.setExitProcedure((code, msg) -> {
+            EXITS.incrementAndGet();
             LOG.errorf("Kafka asked to exit(%d): %s", code, msg);
             throw new IllegalStateException("Kafka exit(" + code + "): " + msg);
         });
         Exit.setHaltProcedure((code, msg) -> {
+            EXITS.incrementAndGet();
             LOG.errorf("Kafka asked to halt(%d): %s", code, msg);
             throw new IllegalStateException("Kafka halt(" + code + "): " + msg);
         });
@@ -97,6 +101,11 @@ public final class KafkaBrokerExtension implements BeforeAllCallback, ParameterR
                 }
             }
         }
+    }
+
+    /** How many times Kafka asked to exit or halt the JVM since the trap was set (a test can assert 0 more). */
+    public static int exitRequests() {
+        return EXITS.get();
     }
 
     /** A fresh temporary directory. */
@@ -120,7 +129,7 @@ public final class KafkaBrokerExtension implements BeforeAllCallback, ParameterR
         }
     }
 
-    private static final class Closer implements ExtensionContext.Store.CloseableResource {
+    private static final class Closer implements ExtensionContext.Store.CloseableResource, AutoCloseable {
         private final EmbeddedKafka b;
 
         Closer(EmbeddedKafka b) {
@@ -132,7 +141,9 @@ public final class KafkaBrokerExtension implements BeforeAllCallback, ParameterR
             synchronized (LOCK) {
                 b.close();
                 deleteTree(b.dataDir());
-                broker = null;
+                if (broker == b) {
+                    broker = null;
+                }
             }
         }
     }

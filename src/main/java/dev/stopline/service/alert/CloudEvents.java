@@ -3,8 +3,12 @@ package dev.stopline.service.alert;
 import java.io.UncheckedIOException;
 import java.net.URI;
 import java.net.URISyntaxException;
+import java.nio.charset.StandardCharsets;
 import java.time.format.DateTimeFormatter;
 import java.util.regex.Pattern;
+
+import org.apache.kafka.clients.producer.ProducerRecord;
+import org.apache.kafka.common.header.internals.RecordHeaders;
 
 import com.fasterxml.jackson.core.JsonProcessingException;
 import com.fasterxml.jackson.databind.ObjectMapper;
@@ -93,5 +97,16 @@ public final class CloudEvents {
         } catch (JsonProcessingException e) {
             throw new UncheckedIOException("cannot render alert " + alert.id() + " as JSON", e);
         }
+    }
+
+    /**
+     * The event as a Kafka record in structured mode (CloudEvents Kafka protocol binding 1.0): value = the
+     * JSON event, header {@code content-type: application/cloudevents+json; charset=UTF-8}. The key is the
+     * experiment id, so all alerts of one experiment land on one partition, in order.
+     */
+    public ProducerRecord<String, byte[]> toKafkaRecord(String topic, AlertEnvelope alert) {
+        RecordHeaders h = new RecordHeaders();
+        h.add("content-type", (STRUCTURED_CONTENT_TYPE + "; charset=UTF-8").getBytes(StandardCharsets.UTF_8));
+        return new ProducerRecord<>(topic, null, null, alert.experimentId(), toBytes(alert), h);
     }
 }

@@ -87,7 +87,9 @@ public final class WebhookDelivery {
         this.sleeper = b.sleeper;
         this.random = b.random;
         this.listener = b.listener;
-        this.http = HttpClient.newBuilder().connectTimeout(b.connectTimeout)
+        // HTTP/1.1: the JDK client's default would try an h2c upgrade on plain http, which some receivers
+        // reject; one small POST per alert gains nothing from HTTP/2.
+        this.http = HttpClient.newBuilder().version(HttpClient.Version.HTTP_1_1).connectTimeout(b.connectTimeout)
                 .followRedirects(HttpClient.Redirect.NEVER).build();
     }
 

@@ -5,9 +5,13 @@ import java.io.IOException;
 import java.io.PrintStream;
 import java.io.UncheckedIOException;
 import java.io.Writer;
+import java.nio.channels.FileChannel;
+import java.nio.channels.FileLock;
+import java.nio.channels.OverlappingFileLockException;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
+import java.nio.file.StandardOpenOption;
 import java.time.Duration;
 import java.util.ArrayList;
 import java.util.LinkedHashMap;
@@ -52,17 +56,25 @@ import kafka.tools.StorageTool;
  *   <li>Topics the daemon did not name are auto-created with {@code num.partitions} (default 1),
  *   replication factor 1. The internal topics ({@code __consumer_offsets}, transactions, share groups) get
  *   replication 1 and one partition, so the first consumer group does not wait for 50 partitions.</li>
+ *   <li>The data directory is locked ({@value #LOCK_FILE}) before Kafka touches it. Kafka's own
+ *   {@code .lock} is taken by the broker's log manager only after the KRaft controller has opened the
+ *   metadata log in the same directory: a second instance on a directory in use was seen (test
+ *   {@code secondBroker_onADataDirInUse_failsClearly_andTheFirstKeepsRunning}, before this lock) to read a
+ *   half-written metadata segment, report corruption and call {@code Exit.halt}.</li>
  *   <li>Kafka's shutdown calls {@code Exit.halt} from some fault handlers; this class does not trap that
  *   globally (a real broker would stop the process too). Tests trap it (see the test helper).</li>
  *   <li>Logging: Kafka logs through SLF4J, which in this application is bound to JBoss LogManager (no
  *   log4j binding; log4j-core is on the class path only because kafka-server depends on it).
- *   {@link #quietBrokerLogging()} sets the broker-side categories to WARNING where nobody configured a
- *   level, so an explicit {@code quarkus.log.category} setting still wins.</li>
+ *   {@link #start()} calls {@link #quietBrokerLogging()} (unless {@link Builder#quietLogs(boolean)} is
+ *   false), which sets the broker-side categories to WARNING where nobody configured a level, so an
+ *   explicit {@code quarkus.log.category} setting still wins.</li>
  * </ul>
  */
 public final class EmbeddedKafka implements AutoCloseable {
     private static final Logger LOG = Logger.getLogger(EmbeddedKafka.class);
 
+    /** Our lock file inside the data directory (Kafka ignores plain files there). */
+    public static final String LOCK_FILE = "stopline.lock";
     /** Broker-side logger categories; Kafka clients ({@code org.apache.kafka.clients}) are left alone. */
     private static final List<String> BROKER_CATEGORIES = List.of(
             "kafka", "state.change.logger", "org.apache.kafka.server", "org.apache.kafka.controller",
@@ -78,6 +90,7 @@ public final class EmbeddedKafka implements AutoCloseable {
     private final Builder config;
     private final Object lock = new Object();
     private KafkaRaftServer server;
+    private FileLock dirLock;
 
     private EmbeddedKafka(Builder config) {
         this.config = config;
@@ -94,25 +107,37 @@ public final class EmbeddedKafka implements AutoCloseable {
      * every named topic exists with at least its configured partition count.
      *
      * @return this, started
-     * @throws IllegalStateException if already running, or if the broker did not come up in time
+     * @throws IllegalStateException if already running, or if the broker did not come up in time or failed
+     *     to start (e.g. a port in use: the message ends with the root cause); the half-started broker has
+     *     then been shut down (bounded), so {@code start()} may be called again
      */
     public EmbeddedKafka start() {
         synchronized (lock) {
             if (server != null) {
                 throw new IllegalStateException("embedded Kafka already running on " + bootstrapServers());
             }
+            if (config.quietLogs) {
+                quietBrokerLogging();
+            }
             long deadline = System.nanoTime() + config.startTimeout.toNanos();
             Map<String, String> props = brokerProperties();
-            formatIfNeeded(props);
-            KafkaRaftServer s = new KafkaRaftServer(new KafkaConfig(props, false), Time.SYSTEM);
-            server = s;
+            lockDataDir();
             try {
+                formatIfNeeded(props);
+                KafkaRaftServer s = new KafkaRaftServer(new KafkaConfig(props, false), Time.SYSTEM);
+                server = s;
                 s.startup();
                 awaitReadyAndCreateTopics(deadline);
             } catch (RuntimeException e) {
-                LOG.errorf(e, "embedded Kafka failed to start on %s; shutting down", bootstrapServers());
-                boundedShutdown();
-                throw e;
+                String why = rootMessage(e);
+                LOG.warnf("embedded Kafka failed to start on %s (%s); shutting it down", bootstrapServers(), why);
+                if (server != null) {
+                    boundedShutdown();
+                } else {
+                    unlockDataDir();
+                }
+                throw new IllegalStateException("embedded Kafka failed to start on " + bootstrapServers()
+                        + " (controller port " + config.controllerPort + ", data " + config.dataDir + "): " + why, e);
             }
             LOG.infof("embedded Kafka ready on %s, data in %s", bootstrapServers(), config.dataDir);
             return this;
@@ -160,8 +185,10 @@ public final class EmbeddedKafka implements AutoCloseable {
         }, config.closeTimeout);
         long ms = TimeUnit.NANOSECONDS.toMillis(System.nanoTime() - t0);
         if (done) {
+            unlockDataDir();
             LOG.infof("embedded Kafka on %s stopped in %d ms", bootstrapServers(), ms);
         } else {
+            // the lock stays held: the abandoned broker may still write to the directory
             LOG.warnf("embedded Kafka on %s abandoned after %d ms: broker threads and the lock on %s may linger"
                     + " until the JVM exits, so a restart on that directory in this JVM may fail",
                     bootstrapServers(), ms, config.dataDir);
@@ -194,8 +221,59 @@ public final class EmbeddedKafka implements AutoCloseable {
         p.put("share.coordinator.state.topic.replication.factor", "1");
         p.put("share.coordinator.state.topic.min.isr", "1");
         p.put("group.initial.rebalance.delay.ms", "0");
+        // Kafka's own bound on waiting for metadata catch-up in startup() (default: forever)
+        p.put("server.max.startup.time.ms", Long.toString(config.startTimeout.toMillis()));
         p.putAll(config.overrides);
         return p;
+    }
+
+    private void lockDataDir() {
+        Path dir = config.dataDir.toAbsolutePath();
+        Path file = dir.resolve(LOCK_FILE);
+        FileChannel ch = null;
+        try {
+            Files.createDirectories(dir);
+            ch = FileChannel.open(file, StandardOpenOption.CREATE, StandardOpenOption.WRITE);
+            FileLock l = ch.tryLock();
+            if (l == null) {
+                throw new IllegalStateException("Kafka data dir " + dir + " is in use by another process (lock "
+                        + file + " held)");
+            }
+            dirLock = l;
+        } catch (OverlappingFileLockException e) {
+            closeQuietly(ch);
+            throw new IllegalStateException("Kafka data dir " + dir + " is in use by another embedded Kafka in"
+                    + " this JVM (lock " + file + " held)", e);
+        } catch (IOException e) {
+            closeQuietly(ch);
+            throw new UncheckedIOException("cannot lock Kafka data dir " + dir, e);
+        } catch (IllegalStateException e) {
+            closeQuietly(ch);
+            throw e;
+        }
+    }
+
+    private void unlockDataDir() {
+        FileLock l = dirLock;
+        dirLock = null;
+        if (l != null) {
+            try {
+                l.release();
+            } catch (IOException e) {
+                LOG.debugf("releasing %s: %s", LOCK_FILE, e);
+            }
+            closeQuietly(l.channel());
+        }
+    }
+
+    private static void closeQuietly(FileChannel ch) {
+        if (ch != null) {
+            try {
+                ch.close();
+            } catch (IOException e) {
+                LOG.debugf("closing lock channel: %s", e);
+            }
+        }
     }
 
     private void formatIfNeeded(Map<String, String> props) {
@@ -335,6 +413,14 @@ public final class EmbeddedKafka implements AutoCloseable {
         }
     }
 
+    private static String rootMessage(Throwable e) {
+        Throwable t = e;
+        while (t.getCause() != null && t.getCause() != t) {
+            t = t.getCause();
+        }
+        return t.getClass().getSimpleName() + ": " + t.getMessage();
+    }
+
     private static long remainingMs(long deadline) {
         return Math.max(1, TimeUnit.NANOSECONDS.toMillis(deadline - System.nanoTime()));
     }
@@ -358,6 +444,7 @@ public final class EmbeddedKafka implements AutoCloseable {
         private final Map<String, String> overrides = new LinkedHashMap<>();
         private Duration startTimeout = Duration.ofSeconds(60);
         private Duration closeTimeout = Duration.ofSeconds(8);
+        private boolean quietLogs = true;
 
         private Builder() {
         }
@@ -425,6 +512,15 @@ public final class EmbeddedKafka implements AutoCloseable {
             return this;
         }
 
+        /**
+         * Whether {@link EmbeddedKafka#start()} calls {@link EmbeddedKafka#quietBrokerLogging()} (default
+         * true; categories with a configured level are left alone either way).
+         */
+        public Builder quietLogs(boolean quiet) {
+            this.quietLogs = quiet;
+            return this;
+        }
+
         /** A broker with these options, not yet started (the builder is copied). */
         public EmbeddedKafka build() {
             if (port == controllerPort) {
@@ -440,6 +536,7 @@ public final class EmbeddedKafka implements AutoCloseable {
             copy.overrides.putAll(overrides);
             copy.startTimeout = startTimeout;
             copy.closeTimeout = closeTimeout;
+            copy.quietLogs = quietLogs;
             return new EmbeddedKafka(copy);
         }
 

@@ -164,6 +164,7 @@ class WebhookDeliveryTest {
         assertEquals(List.of(500, 200), List.of(r.attempts().get(0).status(), r.attempts().get(1).status()));
         assertEquals(List.of(r.attempts().get(0).nextDelay()), sleeps, "slept exactly the announced backoff");
         assertTrue(sleeps.get(0).compareTo(Duration.ofSeconds(1)) <= 0, "first full-jitter wait <= 1 s base");
+        assertEquals(policy(5).backoff(1, new SplittableRandom(42)), sleeps.get(0), "the injected seed drew it");
         assertEquals(r.attempts(), heard, "the listener heard every attempt, in order");
         assertEquals(2, got("/a").size());
         assertEquals(List.of(a.id(), a.id()), List.of(got("/a").get(0).id(), got("/a").get(1).id()),

@@ -109,6 +109,41 @@ class EmbeddedKafkaTest {
     }
 
     @Test
+    void start_onAPortInUse_failsWithinTheStartTimeout_andLeavesTheDirReusable() throws Exception {
+        dir = KafkaBrokerExtension.tempDir("stopline-kafka-test-");
+        try (java.net.ServerSocket taken = new java.net.ServerSocket(0, 1, java.net.InetAddress.getLoopbackAddress())) {
+            EmbeddedKafka blocked = EmbeddedKafka.builder().port(taken.getLocalPort())
+                    .controllerPort(FreePorts.pick()).dataDir(dir).startTimeout(Duration.ofSeconds(30)).build();
+            long t0 = System.nanoTime();
+            IllegalStateException e = assertThrows(IllegalStateException.class, blocked::start);
+            assertTrue(e.getMessage().contains("Address already in use"), e.getMessage());
+            long ms = TimeUnit.NANOSECONDS.toMillis(System.nanoTime() - t0);
+            assertFalse(blocked.isRunning());
+            assertTrue(ms < 30_000 + CLOSE_BOUND_MS, "failed after " + ms + " ms: " + e);
+        }
+        EmbeddedKafka ok = track(newBroker(dir).build().start()); // lock released, format kept
+        assertTrue(ok.isRunning());
+    }
+
+    @Test
+    void secondBroker_onADataDirInUse_failsClearly_andTheFirstKeepsRunning() throws Exception {
+        dir = KafkaBrokerExtension.tempDir("stopline-kafka-test-");
+        EmbeddedKafka first = track(newBroker(dir).build().start());
+        int exitsBefore = KafkaBrokerExtension.exitRequests();
+        EmbeddedKafka second = newBroker(dir).build();
+
+        IllegalStateException e = assertThrows(IllegalStateException.class, second::start);
+
+        assertTrue(e.getMessage().contains("in use"), e.getMessage());
+        assertFalse(second.isRunning());
+        // regression: without our own lock the second controller read the first's metadata log mid-write,
+        // reported corruption and asked Kafka's Exit to halt the JVM
+        assertEquals(exitsBefore, KafkaBrokerExtension.exitRequests(), "Kafka asked to exit/halt");
+        produce(first, "checkout-redesign.after-lock", "k", "still-fine");
+        assertEquals("still-fine", readFromStart(first, "checkout-redesign.after-lock", 1).get(0).value());
+    }
+
+    @Test
     void start_twice_isRejected_andCloseIsIdempotent() {
         dir = KafkaBrokerExtension.tempDir("stopline-kafka-test-");
         EmbeddedKafka kafka = track(newBroker(dir).build().start());
@@ -142,6 +177,22 @@ class EmbeddedKafkaTest {
         assertEquals("1@127.0.0.1:9093", p.get("controller.quorum.voters"));
         assertEquals("1", p.get("num.partitions"));
         assertEquals("true", p.get("auto.create.topics.enable"));
+    }
+
+    @Test
+    void quietBrokerLogging_silencesBrokerInfo_butKeepsALevelSomeoneConfigured() {
+        EmbeddedKafka.quietBrokerLogging();
+        assertFalse(java.util.logging.Logger.getLogger("kafka.server.BrokerServer")
+                .isLoggable(java.util.logging.Level.INFO), "broker INFO is quiet");
+        java.util.logging.Logger raft = java.util.logging.Logger.getLogger("org.apache.kafka.raft");
+        java.util.logging.Level before = raft.getLevel();
+        try {
+            raft.setLevel(java.util.logging.Level.FINE); // as if quarkus.log.category set it
+            EmbeddedKafka.quietBrokerLogging();
+            assertEquals(java.util.logging.Level.FINE, raft.getLevel(), "an explicit level wins");
+        } finally {
+            raft.setLevel(before);
+        }
     }
 
     private EmbeddedKafka track(EmbeddedKafka k) {
