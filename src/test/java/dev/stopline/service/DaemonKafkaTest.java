@@ -8,7 +8,7 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import dev.stopline.monitor.LookRecord;
-import dev.stopline.service.ingest.DeadLetterPublisher;
+import dev.stopline.service.broker.DeadLetters;
 import dev.stopline.service.store.Store;
 import dev.stopline.testing.Counts;
 import dev.stopline.testing.KafkaTestResource;
@@ -71,7 +71,7 @@ class DaemonKafkaTest {
             for (ConsumerRecord<String, byte[]> r : TestKafka.readAll("stopline.counts.dlq", Duration.ofSeconds(1))) {
                 if (id.equals(r.key()) || "never-registered".equals(r.key())) {
                     reasons.put(new String(r.value(), StandardCharsets.UTF_8),
-                            TestKafka.header(r, DeadLetterPublisher.REASON));
+                            TestKafka.header(r, DeadLetters.REASON));
                 }
             }
             assertEquals(8, reasons.size(), () -> "dead letters so far: " + reasons);

@@ -32,12 +32,7 @@ public final class DeadLetters {
     public static final String SOURCE_PARTITION = "stopline-source-partition";
     public static final String SOURCE_OFFSET = "stopline-source-offset";
 
-    /** A cumulative count went backwards, or a look arrived after a later one. */
-    public static final String OUT_OF_ORDER = "out-of-order";
-    /** The value could not be parsed or failed validation. */
-    public static final String MALFORMED = "malformed";
-    /** The record names an experiment the daemon does not know. */
-    public static final String UNKNOWN_EXPERIMENT = "unknown-experiment";
+    // Reason codes are dev.stopline.wire.Reason#code() (plus "evaluation-error"); one list, kept there.
 
     /** Longest detail kept; longer text is cut and ends with an ellipsis. */
     public static final int MAX_DETAIL = 1_000;

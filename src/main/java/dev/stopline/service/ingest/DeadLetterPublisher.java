@@ -9,7 +9,8 @@ import java.util.concurrent.ExecutionException;
 import java.util.concurrent.TimeUnit;
 import java.util.concurrent.TimeoutException;
 import org.apache.kafka.clients.consumer.ConsumerRecord;
-import org.apache.kafka.common.header.internals.RecordHeaders;
+import dev.stopline.service.broker.DeadLetters;
+import org.apache.kafka.clients.producer.ProducerRecord;
 import org.eclipse.microprofile.reactive.messaging.Channel;
 import org.eclipse.microprofile.reactive.messaging.Emitter;
 import org.eclipse.microprofile.reactive.messaging.Message;
@@ -17,9 +18,8 @@ import org.eclipse.microprofile.reactive.messaging.Metadata;
 
 /**
  * Writes rejected records to the dead-letter topic ({@code stopline.counts.dlq} by default) with the
- * original key and value and headers that say why: {@code stopline-reason} (a stable code such as
- * {@code out-of-order}), {@code stopline-detail} (a sentence), and where the record came from
- * ({@code stopline-source-topic}, {@code -partition}, {@code -offset}).
+ * original key and value and the headers of {@link DeadLetters}: {@code stopline-reason} (a stable code such
+ * as {@code out-of-order}), {@code stopline-detail} (a sentence), and where the record came from.
  *
  * <p>The send is awaited before the original record is acknowledged, so a rejected record is never
  * lost between the two topics: if the dead-letter write fails, the consumer sees the failure and the
@@ -27,12 +27,6 @@ import org.eclipse.microprofile.reactive.messaging.Metadata;
  */
 @ApplicationScoped
 public class DeadLetterPublisher {
-    public static final String REASON = "stopline-reason";
-    public static final String DETAIL = "stopline-detail";
-    public static final String SOURCE_TOPIC = "stopline-source-topic";
-    public static final String SOURCE_PARTITION = "stopline-source-partition";
-    public static final String SOURCE_OFFSET = "stopline-source-offset";
-
     private final Emitter<byte[]> emitter;
 
     @Inject
@@ -41,16 +35,13 @@ public class DeadLetterPublisher {
     }
 
     public void publish(ConsumerRecord<String, byte[]> record, String reason, String detail) {
-        RecordHeaders headers = new RecordHeaders();
-        headers.add(REASON, bytes(reason));
-        headers.add(DETAIL, bytes(detail));
-        headers.add(SOURCE_TOPIC, bytes(record.topic()));
-        headers.add(SOURCE_PARTITION, bytes(Integer.toString(record.partition())));
-        headers.add(SOURCE_OFFSET, bytes(Long.toString(record.offset())));
-        OutgoingKafkaRecordMetadata<String> meta = OutgoingKafkaRecordMetadata.<String>builder()
-                .withKey(record.key()).withHeaders(headers).build();
-        CompletableFuture<Void> done = new CompletableFuture<>();
+        byte[] key = record.key() == null ? null : record.key().getBytes(StandardCharsets.UTF_8);
         byte[] value = record.value() == null ? new byte[0] : record.value();
+        ProducerRecord<byte[], byte[]> letter = DeadLetters.of(record.topic(), record.partition(), record.offset(),
+                key, value, record.headers(), reason, detail);
+        OutgoingKafkaRecordMetadata<byte[]> meta = OutgoingKafkaRecordMetadata.<byte[]>builder()
+                .withKey(letter.key()).withHeaders(letter.headers()).build();
+        CompletableFuture<Void> done = new CompletableFuture<>();
         emitter.send(Message.of(value, Metadata.of(meta))
                 .withAck(() -> {
                     done.complete(null);
@@ -68,9 +59,5 @@ public class DeadLetterPublisher {
         } catch (ExecutionException | TimeoutException e) {
             throw new IllegalStateException("dead-letter write failed: " + e.getMessage(), e);
         }
-    }
-
-    private static byte[] bytes(String s) {
-        return (s == null ? "" : s).getBytes(StandardCharsets.UTF_8);
     }
 }

@@ -46,7 +46,7 @@ class DeadLettersTest {
             p.send(new ProducerRecord<>(source, null, key, value, trace)).get(30, TimeUnit.SECONDS);
             ConsumerRecord<byte[], byte[]> original = readOne(kafka, source, r -> true);
 
-            p.send(DeadLetters.of(original, DeadLetters.OUT_OF_ORDER, "look 3 arrived after look 4"))
+            p.send(DeadLetters.of(original, dev.stopline.wire.Reason.OUT_OF_ORDER.code(), "look 3 arrived after look 4"))
                     .get(30, TimeUnit.SECONDS);
             ConsumerRecord<byte[], byte[]> dead = readOne(kafka, DeadLetters.TOPIC, r -> DeadLetters
                     .read(r.headers()).map(l -> l.sourceTopic().equals(source)).orElse(false));
@@ -69,7 +69,7 @@ class DeadLettersTest {
         old.add(DeadLetters.SOURCE_OFFSET, "7".getBytes(StandardCharsets.UTF_8));
 
         ProducerRecord<byte[], byte[]> r = DeadLetters.of("stopline.counts", 2, 99L, null, new byte[] {9}, old,
-                DeadLetters.UNKNOWN_EXPERIMENT, "no experiment 'gift-wrap-upsell' configured");
+                dev.stopline.wire.Reason.UNKNOWN_EXPERIMENT.code(), "no experiment 'gift-wrap-upsell' configured");
 
         assertEquals(DeadLetters.TOPIC, r.topic());
         assertNull(r.partition(), "partition chosen by key, like the original");
