@@ -26,6 +26,7 @@ import java.io.PrintWriter;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.ArrayList;
+import java.util.Arrays;
 import java.util.HashMap;
 import java.util.List;
 import java.util.Locale;
@@ -33,9 +34,11 @@ import java.util.Map;
 import java.util.concurrent.Callable;
 import java.util.stream.Collectors;
 import picocli.CommandLine.Command;
+import picocli.CommandLine.ITypeConverter;
 import picocli.CommandLine.Model.CommandSpec;
 import picocli.CommandLine.Option;
 import picocli.CommandLine.Spec;
+import picocli.CommandLine.TypeConversionException;
 
 /**
  * {@code replay}: the daemon's evaluator, offline. Reads a file of snapshots in the daemon's wire format
@@ -88,7 +91,7 @@ public final class ReplayCommand implements Callable<Integer> {
     Format format;
 
     /** Case-insensitive, so that {@code --format json} works without the root command's setting too. */
-    static final class FormatConverter implements picocli.CommandLine.ITypeConverter<Format> {
+    static final class FormatConverter implements ITypeConverter<Format> {
         @Override
         public Format convert(String value) {
             for (Format f : Format.values()) {
@@ -96,7 +99,7 @@ public final class ReplayCommand implements Callable<Integer> {
                     return f;
                 }
             }
-            throw new picocli.CommandLine.TypeConversionException("expected table or json, got '" + value + "'");
+            throw new TypeConversionException("expected table or json, got '" + value + "'");
         }
     }
 
@@ -246,7 +249,7 @@ public final class ReplayCommand implements Callable<Integer> {
             number++;
             byte[] line = buf.toByteArray();
             int n = line.length;
-            return n > 0 && n < cap && line[n - 1] == '\r' ? java.util.Arrays.copyOf(line, n - 1) : line;
+            return n > 0 && n < cap && line[n - 1] == '\r' ? Arrays.copyOf(line, n - 1) : line;
         }
 
         /** 1-based number of the line last returned (the number of lines read so far). */
@@ -377,6 +380,7 @@ public final class ReplayCommand implements Callable<Integer> {
         }
         b.append("p: always-valid p-value (SPRT, guardrails) or stage-wise adjusted p-value at a group-sequential "
                 + "stop; a nominal p-value is not valid under repeated looks and is not shown.").append('\n');
+        ledger(b, r);
         b.append(String.format(Locale.ROOT, "%nAlerts (%d)%n", r.alerts().size()));
         for (Alert a : r.alerts()) {
             b.append(String.format(Locale.ROOT, "  seq %-5d %-12s %s%n", a.sequence(), a.kind().wireName(), a.summary()));
@@ -384,6 +388,25 @@ public final class ReplayCommand implements Callable<Integer> {
         skippedTable(b, "Rejected lines", r.rejected());
         skippedTable(b, "Duplicate lines (acknowledged without a look)", r.duplicates());
         return b.toString();
+    }
+
+    /** The alpha ledger of a group-sequential primary: what each formal look spent, of the plan's alpha. */
+    private static void ledger(StringBuilder b, Replay r) {
+        List<LookRecord> formal = r.looks().stream()
+                .filter(l -> l.role().equals(LookRecord.PRIMARY) && l.cumulativeAlphaSpent() != null).toList();
+        if (formal.isEmpty()) {
+            return;
+        }
+        b.append(String.format(Locale.ROOT, "%nAlpha ledger (%s, alpha %s)%n", r.plan().primary().metric(),
+                r.plan().primary().alpha()));
+        double before = 0;
+        for (LookRecord l : formal) {
+            b.append(String.format(Locale.ROOT, "  look %d of %d at information %.4f: spent %s, cumulative %s%s%n",
+                    l.look(), l.plannedLooks(), l.informationFraction(), fmt("%.4g", l.cumulativeAlphaSpent() - before),
+                    fmt("%.4g", l.cumulativeAlphaSpent()), l.decision().endsPrimary() ? " (" + l.decision().wireName()
+                            + ": no further looks)" : ""));
+            before = l.cumulativeAlphaSpent();
+        }
     }
 
     private static void skippedTable(StringBuilder b, String title, List<Skipped> lines) {

@@ -197,6 +197,9 @@ class ReplayCommandTest {
         assertTrue(t.contains("efficacy     checkout-redesign: efficacy boundary crossed at look 2 of 5"), t);
         assertTrue(t.contains("line 9     out-of-order       sequence 4 is below the last accepted 6"), t);
         assertTrue(t.contains("line 8     duplicate"), t);
+        assertTrue(t.contains("Alpha ledger (orders, alpha 0.05)"), t);
+        assertTrue(t.contains("look 2 of 5 at information 0.4222: spent 0.001122, cumulative 0.001123 "
+                + "(efficacy: no further looks)"), t);
         assertFalse(t.contains("Infinity") || t.contains("NaN"), t);
     }
 

@@ -140,6 +140,19 @@ class ReplayObrienFlemingStopTest {
     }
 
     @Test
+    void plannedBoundaries_matchThePublishedObrienFlemingTypeValues() {
+        // Lan-DeMets O'Brien-Fleming-type spending, K = 5 equally spaced looks, two-sided 0.05:
+        // 4.877, 3.357, 2.680, 2.290, 2.031 (as tabulated for this design in the group-sequential literature,
+        // e.g. Jennison & Turnbull 2000 ch. 7; from memory). Three decimals: +/-0.0005 rounding, +0.0005 slack.
+        double[] published = {4.877, 3.357, 2.680, 2.290, 2.031};
+        for (int k = 0; k < published.length; k++) {
+            double err = Math.abs(planned.get(k).efficacyZ() - published[k]);
+            assertTrue(err <= 0.001, "look " + (k + 1) + ": " + planned.get(k).efficacyZ() + " against " + published[k]
+                    + ", error " + err);
+        }
+    }
+
+    @Test
     void zJustBelowTheBoundaryAtLook3_continues() throws IOException {
         List<JsonNode> looks = primaryLooks(stream(planned.get(2).efficacyZ() - MARGIN));
         assertEquals(List.of("continue", "continue", "continue"), looks.stream().map(l -> l.get("decision").asText()).toList());
