@@ -10,7 +10,7 @@ import picocli.CommandLine.Spec;
         mixinStandardHelpOptions = true,
         versionProvider = VersionProvider.class,
         description = "Watches running experiments and says, with valid sequential evidence, when one may stop.",
-        subcommands = {DesignCommand.class, ServeCommand.class, DemoCommand.class})
+        subcommands = {DesignCommand.class, ServeCommand.class, DemoCommand.class, ReplayCommand.class})
 public final class StoplineCommand implements Runnable {
     @Spec
     CommandSpec spec;

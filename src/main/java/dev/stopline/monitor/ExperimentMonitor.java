@@ -261,7 +261,7 @@ public final class ExperimentMonitor {
             fractions[i] = s.lookFractions().get(i);
         }
         fractions[k - 1] = fraction;
-        LookBoundary b = Boundaries.next(design, fractions);
+        LookBoundary b = boundaryAt(fractions);
         double z = cmp.z();
         double c = b.efficacyZ();
         boolean twoSided = p.sides() == 2;
@@ -304,6 +304,24 @@ public final class ExperimentMonitor {
                 b.cumulativeAlphaSpent(), decision == Decision.CONTINUE ? null : decision, s.primaryMixture(),
                 s.guardrails(), s.sampleRatioMismatch(), s.sampleRatioEpisodes());
         return new PrimaryOutcome(look, next);
+    }
+
+    /**
+     * The boundary of the look just taken. Spending designs recompute it from the fractions actually
+     * reached (Lan &amp; DeMets 1983). A classical Pocock or O'Brien-Fleming boundary is defined only for
+     * its planned equally spaced looks, so the look takes the constant of the last planned look reached
+     * (the usual practice when looks land close to plan; a plan whose looks drift should use spending).
+     */
+    private LookBoundary boundaryAt(double[] fractions) {
+        if (plan.primary().boundary() == null) {
+            return Boundaries.next(design, fractions);
+        }
+        double t = fractions[fractions.length - 1];
+        int reached = 0;
+        while (reached < plannedFractions.length && plannedFractions[reached] <= t + 1e-12) {
+            reached++;
+        }
+        return planned.looks().get(Math.max(0, reached - 1));
     }
 
     /**
