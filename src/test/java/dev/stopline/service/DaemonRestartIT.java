@@ -1,0 +1,170 @@
+package dev.stopline.service;
+
+import static org.junit.jupiter.api.Assertions.assertEquals;
+import static org.junit.jupiter.api.Assertions.assertFalse;
+import static org.junit.jupiter.api.Assertions.assertTrue;
+
+import com.fasterxml.jackson.databind.JsonNode;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import dev.stopline.monitor.Alert;
+import dev.stopline.monitor.Evaluation;
+import dev.stopline.monitor.ExperimentMonitor;
+import dev.stopline.monitor.LookRecord;
+import dev.stopline.monitor.MonitorState;
+import dev.stopline.plan.PlanParser;
+import dev.stopline.service.broker.EmbeddedKafka;
+import dev.stopline.testing.Counts;
+import dev.stopline.testing.DaemonProcess;
+import dev.stopline.testing.FreePorts;
+import dev.stopline.testing.KafkaBrokerExtension;
+import dev.stopline.wire.Snapshot;
+import dev.stopline.wire.SnapshotParser;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.time.Duration;
+import java.util.ArrayList;
+import java.util.HashSet;
+import java.util.List;
+import java.util.Properties;
+import java.util.Set;
+import org.apache.kafka.clients.producer.KafkaProducer;
+import org.apache.kafka.clients.producer.ProducerRecord;
+import org.apache.kafka.common.serialization.StringSerializer;
+import org.junit.jupiter.api.AfterAll;
+import org.junit.jupiter.api.BeforeAll;
+import org.junit.jupiter.api.Test;
+
+/**
+ * The packaged daemon killed with SIGKILL in the middle of a stream and started again as a new process on
+ * the same database: every look is stored exactly once and no alert is raised twice. The oracle is the
+ * pure evaluator run in this JVM over the same snapshots.
+ */
+class DaemonRestartIT {
+    private static final String ID = "restart-check";
+    private static final int SNAPSHOTS = 60;
+    private static EmbeddedKafka broker;
+    private static Path dir;
+
+    @BeforeAll
+    static void startBroker() throws Exception {
+        KafkaBrokerExtension.trapExit();
+        KafkaBrokerExtension.quietKafkaLogging();
+        dir = Files.createTempDirectory("stopline-restart-");
+        int[] ports = FreePorts.pickTwo();
+        broker = EmbeddedKafka.builder().port(ports[0]).controllerPort(ports[1]).dataDir(dir.resolve("kafka"))
+                .topic("stopline.counts", 1).build().start();
+        Files.createDirectories(dir.resolve("plans"));
+        Files.writeString(dir.resolve("plans").resolve(ID + ".yaml"), plan());
+    }
+
+    @AfterAll
+    static void stopBroker() {
+        if (broker != null) {
+            broker.close();
+        }
+        KafkaBrokerExtension.deleteTree(dir);
+    }
+
+    /** 20 looks, so that a kill lands between looks; 20,000 units per arm. */
+    private static String plan() {
+        return Counts.plan(ID).replace("looks: 5", "looks: 20").replace("maxUnitsPerArm: 10000", "maxUnitsPerArm: 20000");
+    }
+
+    /** Snapshot k: 300 more units per arm each time; from k = 30 the split drifts (an assignment bug). */
+    private static List<String> stream() {
+        List<String> out = new ArrayList<>();
+        long c = 0;
+        long t = 0;
+        for (int k = 1; k <= SNAPSHOTS; k++) {
+            c += k >= 30 ? 360 : 300;
+            t += k >= 30 ? 240 : 300;
+            out.add(Counts.proportion(ID, k, "orders", c, c / 10, t, t / 10 + t / 400));
+        }
+        return out;
+    }
+
+    @Test
+    void killedMidStream_restartedOnTheSameDatabase_losesNoLookAndRepeatsNoAlert() throws Exception {
+        List<String> stream = stream();
+        String jdbc = "jdbc:h2:file:" + dir.resolve("db").resolve("stopline").toAbsolutePath();
+        Path log = dir.resolve("daemon.log");
+        ObjectMapper json = new ObjectMapper();
+
+        Properties p = new Properties();
+        p.put("bootstrap.servers", broker.bootstrapServers());
+        p.put("key.serializer", StringSerializer.class.getName());
+        p.put("value.serializer", StringSerializer.class.getName());
+        p.put("acks", "all");
+        try (KafkaProducer<String, String> producer = new KafkaProducer<>(p)) {
+            DaemonProcess first = DaemonProcess.start(broker.bootstrapServers(), jdbc, dir.resolve("plans"), log);
+            try {
+                for (int k = 0; k < SNAPSHOTS; k++) {
+                    producer.send(new ProducerRecord<>("stopline.counts", ID, stream.get(k))).get();
+                    if (k == 34) {
+                        awaitSequence(first, json, 20, Duration.ofSeconds(120));
+                        first.kill9();
+                        assertFalse(first.isAlive(), "killed");
+                    }
+                }
+            } finally {
+                first.close();
+            }
+        }
+        try (DaemonProcess second = DaemonProcess.start(broker.bootstrapServers(), jdbc, dir.resolve("plans"), log)) {
+            awaitSequence(second, json, SNAPSHOTS, Duration.ofSeconds(120));
+
+            List<Long> primary = new ArrayList<>();
+            for (JsonNode l : json.readTree(second.getBody("/api/experiments/" + ID + "/looks"))) {
+                if ("primary".equals(l.path("role").asText())) {
+                    primary.add(l.path("sequence").asLong());
+                }
+            }
+            List<String> alertIds = new ArrayList<>();
+            for (JsonNode a : json.readTree(second.getBody("/api/alerts?experiment=" + ID))) {
+                alertIds.add(a.path("alert").path("id").asText());
+            }
+
+            Oracle oracle = oracle(stream);
+            assertEquals(oracle.primaryLookSequences, primary, "each look stored once, none lost");
+            assertEquals(new HashSet<>(oracle.alertIds), new HashSet<>(alertIds), "the same alerts as the oracle");
+            assertEquals(alertIds.size(), new HashSet<>(alertIds).size(), "no alert twice");
+            assertTrue(alertIds.contains(ID + "/sample-ratio/-/1"), "the drifting split was caught: " + alertIds);
+        }
+    }
+
+    private static void awaitSequence(DaemonProcess d, ObjectMapper json, long sequence, Duration max)
+            throws Exception {
+        long deadline = System.nanoTime() + max.toNanos();
+        while (System.nanoTime() < deadline) {
+            JsonNode e = json.readTree(d.getBody("/api/experiments/" + ID));
+            if (e.path("summary").path("lastSequence").asLong(-1) >= sequence) {
+                return;
+            }
+            Thread.sleep(200);
+        }
+        throw new AssertionError("daemon did not reach sequence " + sequence + " within " + max);
+    }
+
+    private record Oracle(List<Long> primaryLookSequences, List<String> alertIds) {
+    }
+
+    /** What the pure evaluator says about the same stream, evaluated in one go. */
+    private static Oracle oracle(List<String> stream) {
+        ExperimentMonitor m = ExperimentMonitor.of(PlanParser.parseYaml(plan()), 1);
+        MonitorState s = m.initialState();
+        List<Long> looks = new ArrayList<>();
+        List<String> alerts = new ArrayList<>();
+        SnapshotParser parser = SnapshotParser.withDefaults();
+        for (String line : stream) {
+            Snapshot snap = (Snapshot) parser.parse(line.getBytes(StandardCharsets.UTF_8), ID);
+            Evaluation e = m.evaluate(s, snap);
+            s = e.state();
+            e.looks().stream().filter(l -> LookRecord.PRIMARY.equals(l.role())).forEach(l -> looks.add(l.sequence()));
+            e.alerts().stream().map(Alert::id).forEach(alerts::add);
+        }
+        Set<Long> unique = new HashSet<>(looks);
+        assertEquals(looks.size(), unique.size());
+        return new Oracle(looks, alerts);
+    }
+}

@@ -1,0 +1,129 @@
+package dev.stopline.testing;
+
+import java.io.IOException;
+import java.io.UncheckedIOException;
+import java.net.URI;
+import java.net.http.HttpClient;
+import java.net.http.HttpRequest;
+import java.net.http.HttpResponse;
+import java.nio.file.Path;
+import java.time.Duration;
+import java.util.ArrayList;
+import java.util.List;
+
+/**
+ * The packaged daemon ({@code quarkus-run.jar serve}) as a separate process, for tests that restart or
+ * kill it. Output goes to a log file under the test's directory.
+ */
+public final class DaemonProcess implements AutoCloseable {
+    private final Process process;
+    private final int port;
+    private final HttpClient http = HttpClient.newBuilder().connectTimeout(Duration.ofSeconds(2)).build();
+
+    private DaemonProcess(Process process, int port) {
+        this.process = process;
+        this.port = port;
+    }
+
+    /** Starts {@code serve} and waits until its readiness check answers 200. */
+    public static DaemonProcess start(String bootstrapServers, String jdbcUrl, Path plansDir, Path log,
+                                      String... extraArgs) {
+        String jar = System.getProperty("stopline.jar", "target/quarkus-app/quarkus-run.jar");
+        int port = FreePorts.pick();
+        List<String> cmd = new ArrayList<>(List.of(Path.of(System.getProperty("java.home"), "bin", "java").toString(),
+                "-Xmx512m", "-jar", jar, "serve", "--bootstrap-servers", bootstrapServers, "--jdbc-url", jdbcUrl,
+                "--plans-dir", plansDir.toString(), "--port", Integer.toString(port)));
+        cmd.addAll(List.of(extraArgs));
+        try {
+            Process p = new ProcessBuilder(cmd).redirectErrorStream(true)
+                    .redirectOutput(ProcessBuilder.Redirect.appendTo(log.toFile())).start();
+            DaemonProcess d = new DaemonProcess(p, port);
+            d.awaitReady(Duration.ofSeconds(180));
+            return d;
+        } catch (IOException e) {
+            throw new UncheckedIOException(e);
+        }
+    }
+
+    private void awaitReady(Duration max) {
+        long deadline = System.nanoTime() + max.toNanos();
+        while (System.nanoTime() < deadline) {
+            if (!process.isAlive()) {
+                throw new IllegalStateException("daemon exited with " + process.exitValue() + " before it was ready");
+            }
+            try {
+                if (get("/q/health/ready").statusCode() == 200) {
+                    return;
+                }
+            } catch (IOException e) {
+                // not listening yet
+            }
+            sleep(250);
+        }
+        throw new IllegalStateException("daemon not ready within " + max);
+    }
+
+    public HttpResponse<String> get(String path) throws IOException {
+        try {
+            return http.send(HttpRequest.newBuilder(URI.create("http://127.0.0.1:" + port + path))
+                    .timeout(Duration.ofSeconds(10)).build(), HttpResponse.BodyHandlers.ofString());
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
+            throw new IOException(e);
+        }
+    }
+
+    public String getBody(String path) {
+        try {
+            return get(path).body();
+        } catch (IOException e) {
+            throw new UncheckedIOException(e);
+        }
+    }
+
+    public long pid() {
+        return process.pid();
+    }
+
+    /** SIGKILL: no shutdown hook runs, nothing is flushed. */
+    public void kill9() {
+        process.destroyForcibly();
+        waitFor(Duration.ofSeconds(30));
+    }
+
+    /** SIGTERM, then waits; returns how long the process took to exit. */
+    public Duration terminate(Duration max) {
+        long t0 = System.nanoTime();
+        process.destroy();
+        waitFor(max);
+        return Duration.ofNanos(System.nanoTime() - t0);
+    }
+
+    public boolean isAlive() {
+        return process.isAlive();
+    }
+
+    private void waitFor(Duration max) {
+        try {
+            process.waitFor(max.toMillis(), java.util.concurrent.TimeUnit.MILLISECONDS);
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
+        }
+    }
+
+    private static void sleep(long ms) {
+        try {
+            Thread.sleep(ms);
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
+        }
+    }
+
+    @Override
+    public void close() {
+        if (process.isAlive()) {
+            process.destroyForcibly();
+            waitFor(Duration.ofSeconds(30));
+        }
+    }
+}
