@@ -206,10 +206,10 @@ public final class Boundaries {
             }
             if (j + 1 < k) {
                 if (h0 != null) {
-                    h0.endLook(sides, b[j], futility && binding ? a[j] : Double.NaN);
+                    h0.endLook(sides, b[j], futility && binding ? a[j] : Double.NaN, t[j + 1]);
                 }
                 if (futility) {
-                    h1.endLook(sides, b[j], a[j]);
+                    h1.endLook(sides, b[j], a[j], t[j + 1]);
                 }
             }
         }
@@ -264,7 +264,7 @@ public final class Boundaries {
             g.beginLook(t[j]);
             p += g.upperExit(b[j]) + (sides == 2 ? g.lowerExit(-b[j]) : 0);
             if (j + 1 < t.length) {
-                g.endLook(sides, b[j], Double.NaN);
+                g.endLook(sides, b[j], Double.NaN, t[j + 1]);
             }
         }
         return p;

@@ -1,5 +1,7 @@
 package dev.stopline.stats.groupseq;
 
+import dev.stopline.stats.StatsException;
+
 /**
  * The numerical-integration recursion for the sub-densities of a group-sequential Z statistic
  * (Armitage, McPherson &amp; Rowe 1969 [1]; Jennison &amp; Turnbull 2000, ch. 19 [2]). Mutable and
@@ -46,19 +48,25 @@ final class GridRecursion {
      * mass: far below the 1e-7 Simpson error of the grid.
      */
     static final double KERNEL_CUTOFF = 60;
+    /** Largest grid parameter r for close looks (m &lt;= 12 r + 1 = 3841 points per interval). */
+    static final int MAX_R = 320;
+    /** Smallest information increment relative to the fraction: (1.5 / MAX_R)^2. */
+    static final double MIN_RELATIVE_INCREMENT = (1.5 / MAX_R) * (1.5 / MAX_R);
 
     private final double theta;
-    private final double[] offsets;
-    /** Spacing of the central, equally spaced part of the grid after midpoints: 0.75 / r. */
-    private final double uniformStep;
+    private final int baseR;
+    /** Grid offsets of the look being closed, for its r (baseR unless looks are close together). */
+    private double[] offsets;
+    private int offsetsR;
+    /** Spacing of the central, equally spaced part of the previous grid after midpoints: 0.75 / r. */
+    private double uniformStep;
     /** Maximal runs [runStart, runEnd) of the previous grid with spacing uniformStep. */
     private final int[] runStart = new int[8];
     private final int[] runEnd = new int[8];
     private int runCount;
     /** G_n = exp(c h^2 n^2) for the current look, n &lt; gaussLength (where it stays above e^-700). */
-    private final double[] gauss;
+    private double[] gauss;
     private int gaussLength;
-    private final int capacity;
 
     // Previous look: points, weight x sub-density, and the shifted score u_i sqrt(t_prev) + theta D.
     private double[] zPrev;
@@ -71,21 +79,55 @@ final class GridRecursion {
     private double t;
     private double sqrtT;
     private double sqrtD;
-    private final double[] shift;
+    private double[] shift;
     private double[] zCur;
     private double[] whCur;
 
     GridRecursion(double theta, int r) {
         this.theta = theta;
+        this.baseR = r;
         this.offsets = offsets(r);
-        this.uniformStep = 0.75 / r;
-        this.capacity = 2 * (12 * r + 3) + 2;
-        this.zPrev = new double[capacity];
-        this.whPrev = new double[capacity];
-        this.zCur = new double[capacity];
-        this.whCur = new double[capacity];
-        this.shift = new double[capacity];
-        this.gauss = new double[capacity];
+        this.offsetsR = r;
+        allocate(capacity(r));
+    }
+
+    private static int capacity(int r) {
+        return 2 * (12 * r + 3) + 2;
+    }
+
+    /** Sizes all buffers for grids of parameter up to r, keeping the previous grid and its shifts. */
+    private void allocate(int capacity) {
+        zPrev = grow(zPrev, capacity);
+        whPrev = grow(whPrev, capacity);
+        shift = grow(shift, capacity);
+        zCur = new double[capacity];
+        whCur = new double[capacity];
+        gauss = new double[capacity];
+    }
+
+    private static double[] grow(double[] a, int capacity) {
+        return a == null ? new double[capacity] : java.util.Arrays.copyOf(a, capacity);
+    }
+
+    /**
+     * Grid parameter for a look at t with information increments dBefore (from the previous look) and
+     * dAfter (to the next): r_k = max(r, ceil(1.5 sqrt(t / min(dBefore, dAfter)))). Our adaptation of
+     * J&amp;T: their fixed grid assumes the kernel sd sqrt(D / t) spans several grid steps; with close
+     * looks (D / t below about 1/113 at r = 16) Simpson's rule on a kernel narrower than the grid gave
+     * probabilities above 1 (measured at D = 1e-6). The rule keeps the central step 0.75 / r_k at or
+     * below half the kernel sd; the kernel window keeps the cost near O(m) per row for such looks.
+     */
+    private int gridR(double dBefore, double dAfter) {
+        double d = dAfter < dBefore ? dAfter : dBefore; // a NaN dAfter (next look unknown) is ignored
+        if (!(d < Double.POSITIVE_INFINITY)) {
+            return baseR;
+        }
+        double need = Math.ceil(1.5 * Math.sqrt(t / d));
+        if (!(need <= MAX_R)) {
+            throw new StatsException("information fractions too close together at t = %s: increments must be at "
+                    + "least %s of the fraction (grid limit r <= %d), got %s", t, MIN_RELATIVE_INCREMENT, MAX_R, d);
+        }
+        return Math.max(baseR, (int) need);
     }
 
     private static double[] offsets(int r) {
@@ -173,8 +215,17 @@ final class GridRecursion {
     /**
      * Closes the current look with continuation region (lo1, hi1), plus (lo2, hi2) when
      * {@code lo2 < hi2} (pass NaN to omit it): builds its grid and the sub-density on it.
+     * {@code nextT} is the next look's information fraction (NaN if unknown); it sizes the grid.
      */
-    void endLook(double lo1, double hi1, double lo2, double hi2) {
+    void endLook(double lo1, double hi1, double lo2, double hi2, double nextT) {
+        int r = gridR(started ? t - tPrev : Double.POSITIVE_INFINITY, nextT - t);
+        if (r != offsetsR) {
+            if (capacity(r) > zCur.length) {
+                allocate(capacity(r));
+            }
+            offsets = offsets(r);
+            offsetsR = r;
+        }
         int m = addInterval(0, lo1, hi1);
         if (lo2 < hi2) {
             m = addInterval(m, lo2, hi2);
@@ -189,6 +240,7 @@ final class GridRecursion {
         mPrev = m;
         tPrev = t;
         started = true;
+        uniformStep = 0.75 / r;
         findUniformRuns();
     }
 
@@ -226,13 +278,13 @@ final class GridRecursion {
      * {@code (futility, efficacy)} (futility NaN means none); two-sided {@code (-efficacy, efficacy)}
      * minus the inner futility region {@code [-futility, futility]} when futility &gt; 0.
      */
-    void endLook(int sides, double efficacy, double futility) {
+    void endLook(int sides, double efficacy, double futility, double nextT) {
         if (sides == 1) {
-            endLook(futility == futility ? futility : Double.NEGATIVE_INFINITY, efficacy, Double.NaN, Double.NaN);
+            endLook(futility == futility ? futility : Double.NEGATIVE_INFINITY, efficacy, Double.NaN, Double.NaN, nextT);
         } else if (futility > 0) {
-            endLook(-efficacy, -futility, futility, efficacy);
+            endLook(-efficacy, -futility, futility, efficacy, nextT);
         } else {
-            endLook(-efficacy, efficacy, Double.NaN, Double.NaN);
+            endLook(-efficacy, efficacy, Double.NaN, Double.NaN, nextT);
         }
     }
 
