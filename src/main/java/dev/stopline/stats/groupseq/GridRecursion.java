@@ -28,8 +28,19 @@ import dev.stopline.stats.StatsException;
  * inserted and Simpson's weights (d/6, 4d/6, d/6 per interval of length d) are used, so each
  * interval carries an odd number of points, at most 12r + 1. Adaptation: the continuation region
  * may be a union of two intervals (two-sided tests with an inner futility region); each interval
- * gets its own trimmed grid and the weights are concatenated. Per look the density update costs
- * m_{k-1} m_k exponentials and nothing is allocated: all buffers are sized once.
+ * gets its own trimmed grid and the weights are concatenated. Close looks refine the grid (see
+ * {@code gridR}).
+ *
+ * <p>Design note on speed (measured as thread CPU time, minimum of 100 runs, on a shared 2-core
+ * machine under load): the density update is the cost, m_{k-1} m_k kernel terms with m up to 193.
+ * Two exact-to-rounding shortcuts, checked against a naive transcription in GridRecursionTest:
+ * (1) a kernel window skips terms below e^-60 (both grids are sorted, so the window slides);
+ * (2) on the equally spaced centre of the previous grid, exp(c (d - n h)^2) = exp(c d^2) E^n G_n with
+ * G_n tabulated once per look, so a row needs two exponentials instead of one per term. Together
+ * with cheap root-finder starting guesses they took a one-sided K = 10 design with binding futility
+ * from 3.8 to 1.5 ms and a two-sided K = 100 Pocock-type design from 5.3 to 2.8 ms. Buffers are
+ * allocated once per recursion (grown only when close looks need a finer grid); the inner loops
+ * allocate nothing.
  *
  * <p>References:
  * <ol>
@@ -346,7 +357,7 @@ final class GridRecursion {
         double c = -0.5 / (sqrtD * sqrtD);
         double scale = sqrtT / sqrtD / Math.sqrt(2 * Math.PI);
         // Kernel window: terms with exp(c d^2) < e^-KERNEL_CUTOFF are skipped. Both grids are sorted,
-        // so the window [lo, hi) only moves right. See the class comment for the measured effect.
+        // so the window [lo, hi) only moves right. The class comment gives the measured effect.
         double reach = sqrtD * Math.sqrt(2 * KERNEL_CUTOFF);
         double h = uniformStep * Math.sqrt(tPrev);
         // The run recurrence pays off while the kernel spans several grid steps; when the kernel is
