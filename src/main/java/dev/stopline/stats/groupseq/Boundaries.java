@@ -57,7 +57,7 @@ public final class Boundaries {
     static final int BOUND_MAX_EVALUATIONS = 60;
     /** Outer solves (drift, classical constant): tolerance on theta or C. */
     static final double OUTER_X_TOL = 1e-9;
-    static final double OUTER_F_TOL = 1e-11;
+    static final double OUTER_F_TOL = 1e-9;
     static final int OUTER_MAX_EVALUATIONS = 60;
     /** Increments below this are treated as zero (their bound is at infinity). */
     private static final double NEGLIGIBLE = 1e-300;
@@ -162,13 +162,22 @@ public final class Boundaries {
             pass(t, sides, effInc, null, false, 0, b, null, true, inner);
         }
         // b_K - a_K decreases in theta: a larger drift pushes the futility bounds up.
+        // Every evaluation's bounds are kept, so the root's bounds need no extra pass (saves 1 of ~7).
+        List<double[][]> evaluated = new ArrayList<>();
         DoubleUnaryOperator gap = theta -> {
             pass(t, sides, effInc, betaInc, binding, theta, b, a, binding, inner);
+            evaluated.add(new double[][] {{theta}, b.clone(), a.clone()});
             return b[k - 1] - a[k - 1];
         };
         double fixed = Normal.upperQuantile(design.alpha() / sides) + Normal.upperQuantile(design.beta());
-        double theta = outer.solveDecreasing(gap, fixed * 1.05, 0.25 * fixed, 1e-3, 40);
-        gap.applyAsDouble(theta); // leave b and a at the root
+        double theta = outer.solveDecreasing(gap, fixed * 1.05, 0.05 * fixed, 1e-3, 40);
+        double[][] atRoot = evaluated.stream().filter(e -> e[0][0] == theta).findFirst().orElse(null);
+        if (atRoot == null) {
+            gap.applyAsDouble(theta);
+        } else {
+            System.arraycopy(atRoot[1], 0, b, 0, k);
+            System.arraycopy(atRoot[2], 0, a, 0, k);
+        }
         a[k - 1] = b[k - 1];
         return new BoundarySet(design, lookBoundaries(design, t, b, a, cumAlpha), theta, t, b, a, counts(inner, outer));
     }
@@ -197,10 +206,10 @@ public final class Boundaries {
             }
             if (j + 1 < k) {
                 if (h0 != null) {
-                    h0.endLook(sides, b[j], futility && binding ? a[j] : Double.NaN);
+                    h0.endLook(sides, b[j], futility && binding ? a[j] : Double.NaN, t[j + 1]);
                 }
                 if (futility) {
-                    h1.endLook(sides, b[j], a[j]);
+                    h1.endLook(sides, b[j], a[j], t[j + 1]);
                 }
             }
         }
@@ -211,8 +220,8 @@ public final class Boundaries {
             return Double.POSITIVE_INFINITY;
         }
         double logInc = Math.log(increment);
-        // Under theta = 0, P(continue, Z_k > b) <= 1 - Phi(b): the root lies at or below this guess.
-        double guess = Normal.upperQuantile(Math.min(increment, 0.5));
+        // Under theta = 0, P(continue, Z_k > b) <= 1 - Phi(b): the root lies about at or below this guess.
+        double guess = NormalTail.roughUpperQuantile(Math.min(increment, 0.5));
         return rf.solveDecreasing(x -> log(h.upperExit(x)) - logInc, guess, 0.5, -10, 40);
     }
 
@@ -221,8 +230,8 @@ public final class Boundaries {
             return Double.NEGATIVE_INFINITY;
         }
         double logInc = Math.log(increment);
-        // P(continue, Z_k < a) <= Phi(a - mean): the root lies at or above this guess.
-        double guess = mean + Normal.quantile(Math.min(increment, 0.5));
+        // P(continue, Z_k < a) <= Phi(a - mean): the root lies about at or above this guess.
+        double guess = mean - NormalTail.roughUpperQuantile(Math.min(increment, 0.5));
         return rf.solveDecreasing(x -> logInc - log(h.lowerExit(x)), guess, 0.5, mean - 40, ceiling);
     }
 
@@ -231,7 +240,7 @@ public final class Boundaries {
             return 0;
         }
         double logInc = Math.log(increment);
-        double guess = Math.max(0, mean + Normal.quantile(Math.min(increment, 0.5)));
+        double guess = Math.max(0, mean - NormalTail.roughUpperQuantile(Math.min(increment, 0.5)));
         return rf.solveDecreasing(x -> logInc - log(h.innerExit(x)), guess, 0.5, 0, ceiling);
     }
 
@@ -255,7 +264,7 @@ public final class Boundaries {
             g.beginLook(t[j]);
             p += g.upperExit(b[j]) + (sides == 2 ? g.lowerExit(-b[j]) : 0);
             if (j + 1 < t.length) {
-                g.endLook(sides, b[j], Double.NaN);
+                g.endLook(sides, b[j], Double.NaN, t[j + 1]);
             }
         }
         return p;

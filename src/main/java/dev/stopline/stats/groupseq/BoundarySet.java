@@ -78,7 +78,7 @@ public final class BoundarySet {
         double e = timing[0];
         for (int k = 0; k + 1 < timing.length; k++) {
             g.beginLook(timing[k]);
-            g.endLook(design.sides(), efficacy[k], futility == null ? Double.NaN : futility[k]);
+            g.endLook(design.sides(), efficacy[k], futility == null ? Double.NaN : futility[k], timing[k + 1]);
             e += (timing[k + 1] - timing[k]) * Math.min(1, g.continuationMass());
         }
         return e;

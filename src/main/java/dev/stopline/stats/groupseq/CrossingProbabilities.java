@@ -36,7 +36,7 @@ public final class CrossingProbabilities {
             up[i] = g.upperExit(upper[i]);
             lo[i] = g.lowerExit(lower[i]);
             if (i + 1 < k) {
-                g.endLook(lower[i], upper[i], Double.NaN, Double.NaN);
+                g.endLook(lower[i], upper[i], Double.NaN, Double.NaN, timing[i + 1]);
             }
         }
         return new Result(up, lo);

@@ -1,5 +1,7 @@
 package dev.stopline.stats.groupseq;
 
+import dev.stopline.stats.StatsException;
+
 /**
  * The numerical-integration recursion for the sub-densities of a group-sequential Z statistic
  * (Armitage, McPherson &amp; Rowe 1969 [1]; Jennison &amp; Turnbull 2000, ch. 19 [2]). Mutable and
@@ -26,8 +28,19 @@ package dev.stopline.stats.groupseq;
  * inserted and Simpson's weights (d/6, 4d/6, d/6 per interval of length d) are used, so each
  * interval carries an odd number of points, at most 12r + 1. Adaptation: the continuation region
  * may be a union of two intervals (two-sided tests with an inner futility region); each interval
- * gets its own trimmed grid and the weights are concatenated. Per look the density update costs
- * m_{k-1} m_k exponentials and nothing is allocated: all buffers are sized once.
+ * gets its own trimmed grid and the weights are concatenated. Close looks refine the grid (see
+ * {@code gridR}).
+ *
+ * <p>Design note on speed (measured as thread CPU time, minimum of 100 runs, on a shared 2-core
+ * machine under load): the density update is the cost, m_{k-1} m_k kernel terms with m up to 193.
+ * Two exact-to-rounding shortcuts, checked against a naive transcription in GridRecursionTest:
+ * (1) a kernel window skips terms below e^-60 (both grids are sorted, so the window slides);
+ * (2) on the equally spaced centre of the previous grid, exp(c (d - n h)^2) = exp(c d^2) E^n G_n with
+ * G_n tabulated once per look, so a row needs two exponentials instead of one per term. Together
+ * with cheap root-finder starting guesses they took a one-sided K = 10 design with binding futility
+ * from 3.8 to 1.5 ms and a two-sided K = 100 Pocock-type design from 5.3 to 2.8 ms. Buffers are
+ * allocated once per recursion (grown only when close looks need a finer grid); the inner loops
+ * allocate nothing.
  *
  * <p>References:
  * <ol>
@@ -40,10 +53,31 @@ package dev.stopline.stats.groupseq;
 final class GridRecursion {
     /** J&amp;T recommend r = 16 for errors near 1e-6 in the boundaries; we use it by default. */
     static final int DEFAULT_R = 16;
+    /**
+     * Kernel terms below e^-60 (about 1e-26) of the kernel's peak are skipped. Each skipped term is at
+     * most e^-60 times a weight, so the total absolute error in a sub-density is below 1e-26 times its
+     * mass: far below the 1e-7 Simpson error of the grid.
+     */
+    static final double KERNEL_CUTOFF = 60;
+    /** Largest grid parameter r for close looks (m &lt;= 12 r + 1 = 3841 points per interval). */
+    static final int MAX_R = 320;
+    /** Smallest information increment relative to the fraction: (1.5 / MAX_R)^2. */
+    static final double MIN_RELATIVE_INCREMENT = (1.5 / MAX_R) * (1.5 / MAX_R);
 
     private final double theta;
-    private final double[] offsets;
-    private final int capacity;
+    private final int baseR;
+    /** Grid offsets of the look being closed, for its r (baseR unless looks are close together). */
+    private double[] offsets;
+    private int offsetsR;
+    /** Spacing of the central, equally spaced part of the previous grid after midpoints: 0.75 / r. */
+    private double uniformStep;
+    /** Maximal runs [runStart, runEnd) of the previous grid with spacing uniformStep. */
+    private final int[] runStart = new int[8];
+    private final int[] runEnd = new int[8];
+    private int runCount;
+    /** G_n = exp(c h^2 n^2) for the current look, n &lt; gaussLength (where it stays above e^-700). */
+    private double[] gauss;
+    private int gaussLength;
 
     // Previous look: points, weight x sub-density, and the shifted score u_i sqrt(t_prev) + theta D.
     private double[] zPrev;
@@ -56,19 +90,55 @@ final class GridRecursion {
     private double t;
     private double sqrtT;
     private double sqrtD;
-    private final double[] shift;
+    private double[] shift;
     private double[] zCur;
     private double[] whCur;
 
     GridRecursion(double theta, int r) {
         this.theta = theta;
+        this.baseR = r;
         this.offsets = offsets(r);
-        this.capacity = 2 * (12 * r + 3) + 2;
-        this.zPrev = new double[capacity];
-        this.whPrev = new double[capacity];
-        this.zCur = new double[capacity];
-        this.whCur = new double[capacity];
-        this.shift = new double[capacity];
+        this.offsetsR = r;
+        allocate(capacity(r));
+    }
+
+    private static int capacity(int r) {
+        return 2 * (12 * r + 3) + 2;
+    }
+
+    /** Sizes all buffers for grids of parameter up to r, keeping the previous grid and its shifts. */
+    private void allocate(int capacity) {
+        zPrev = grow(zPrev, capacity);
+        whPrev = grow(whPrev, capacity);
+        shift = grow(shift, capacity);
+        zCur = new double[capacity];
+        whCur = new double[capacity];
+        gauss = new double[capacity];
+    }
+
+    private static double[] grow(double[] a, int capacity) {
+        return a == null ? new double[capacity] : java.util.Arrays.copyOf(a, capacity);
+    }
+
+    /**
+     * Grid parameter for a look at t with information increments dBefore (from the previous look) and
+     * dAfter (to the next): r_k = max(r, ceil(1.5 sqrt(t / min(dBefore, dAfter)))). Our adaptation of
+     * J&amp;T: their fixed grid assumes the kernel sd sqrt(D / t) spans several grid steps; with close
+     * looks (D / t below about 1/113 at r = 16) Simpson's rule on a kernel narrower than the grid gave
+     * probabilities above 1 (measured at D = 1e-6). The rule keeps the central step 0.75 / r_k at or
+     * below half the kernel sd; the kernel window keeps the cost near O(m) per row for such looks.
+     */
+    private int gridR(double dBefore, double dAfter) {
+        double d = dAfter < dBefore ? dAfter : dBefore; // a NaN dAfter (next look unknown) is ignored
+        if (!(d < Double.POSITIVE_INFINITY)) {
+            return baseR;
+        }
+        double need = Math.ceil(1.5 * Math.sqrt(t / d));
+        if (!(need <= MAX_R)) {
+            throw new StatsException("information fractions too close together at t = %s: increments must be at "
+                    + "least %s of the fraction (grid limit r <= %d), got %s", t, MIN_RELATIVE_INCREMENT, MAX_R, d);
+        }
+        return Math.max(baseR, (int) need);
     }
 
     private static double[] offsets(int r) {
@@ -156,8 +226,17 @@ final class GridRecursion {
     /**
      * Closes the current look with continuation region (lo1, hi1), plus (lo2, hi2) when
      * {@code lo2 < hi2} (pass NaN to omit it): builds its grid and the sub-density on it.
+     * {@code nextT} is the next look's information fraction (NaN if unknown); it sizes the grid.
      */
-    void endLook(double lo1, double hi1, double lo2, double hi2) {
+    void endLook(double lo1, double hi1, double lo2, double hi2, double nextT) {
+        int r = gridR(started ? t - tPrev : Double.POSITIVE_INFINITY, nextT - t);
+        if (r != offsetsR) {
+            if (capacity(r) > zCur.length) {
+                allocate(capacity(r));
+            }
+            offsets = offsets(r);
+            offsetsR = r;
+        }
         int m = addInterval(0, lo1, hi1);
         if (lo2 < hi2) {
             m = addInterval(m, lo2, hi2);
@@ -172,6 +251,37 @@ final class GridRecursion {
         mPrev = m;
         tPrev = t;
         started = true;
+        uniformStep = 0.75 / r;
+        findUniformRuns();
+    }
+
+    private void tabulateGauss(double ch2) {
+        int n = 0;
+        while (n < gauss.length && ch2 * n * n >= -700) {
+            gauss[n] = Math.exp(ch2 * n * n);
+            n++;
+        }
+        gaussLength = n;
+    }
+
+    /** Records the runs of at least 8 points of zPrev spaced exactly uniformStep apart (to 1e-9). */
+    private void findUniformRuns() {
+        runCount = 0;
+        int i = 0;
+        while (i + 1 < mPrev && runCount < runStart.length) {
+            int j = i;
+            while (j + 1 < mPrev && Math.abs(zPrev[j + 1] - zPrev[j] - uniformStep) <= 1e-9 * uniformStep) {
+                j++;
+            }
+            if (j - i + 1 >= 8) {
+                runStart[runCount] = i;
+                runEnd[runCount] = j + 1;
+                runCount++;
+                i = j + 1;
+            } else {
+                i = Math.max(j, i + 1);
+            }
+        }
     }
 
     /**
@@ -179,13 +289,13 @@ final class GridRecursion {
      * {@code (futility, efficacy)} (futility NaN means none); two-sided {@code (-efficacy, efficacy)}
      * minus the inner futility region {@code [-futility, futility]} when futility &gt; 0.
      */
-    void endLook(int sides, double efficacy, double futility) {
+    void endLook(int sides, double efficacy, double futility, double nextT) {
         if (sides == 1) {
-            endLook(futility == futility ? futility : Double.NEGATIVE_INFINITY, efficacy, Double.NaN, Double.NaN);
+            endLook(futility == futility ? futility : Double.NEGATIVE_INFINITY, efficacy, Double.NaN, Double.NaN, nextT);
         } else if (futility > 0) {
-            endLook(-efficacy, -futility, futility, efficacy);
+            endLook(-efficacy, -futility, futility, efficacy, nextT);
         } else {
-            endLook(-efficacy, efficacy, Double.NaN, Double.NaN);
+            endLook(-efficacy, efficacy, Double.NaN, Double.NaN, nextT);
         }
     }
 
@@ -246,14 +356,86 @@ final class GridRecursion {
         }
         double c = -0.5 / (sqrtD * sqrtD);
         double scale = sqrtT / sqrtD / Math.sqrt(2 * Math.PI);
+        // Kernel window: terms with exp(c d^2) < e^-KERNEL_CUTOFF are skipped. Both grids are sorted,
+        // so the window [lo, hi) only moves right. The class comment gives the measured effect.
+        double reach = sqrtD * Math.sqrt(2 * KERNEL_CUTOFF);
+        double h = uniformStep * Math.sqrt(tPrev);
+        // The run recurrence pays off while the kernel spans several grid steps; when the kernel is
+        // narrower than e^-50 across one step (looks extremely close), the window is tiny anyway.
+        boolean useRuns = -c * h * h <= 50;
+        if (useRuns) {
+            tabulateGauss(c * h * h);
+        }
+        int lo = 0;
+        int hi = 0;
         for (int j = 0; j < m; j++) {
             double v = zCur[j] * sqrtT;
+            while (lo < mPrev && shift[lo] < v - reach) {
+                lo++;
+            }
+            if (hi < lo) {
+                hi = lo;
+            }
+            while (hi < mPrev && shift[hi] <= v + reach) {
+                hi++;
+            }
             double sum = 0;
-            for (int i = 0; i < mPrev; i++) {
+            int i = lo;
+            for (int r = 0; useRuns && r < runCount; r++) {
+                int rs = Math.max(runStart[r], lo);
+                int re = Math.min(runEnd[r], hi);
+                if (rs >= re) {
+                    continue;
+                }
+                for (; i < rs; i++) {
+                    double d = v - shift[i];
+                    sum += whPrev[i] * Math.exp(c * d * d);
+                }
+                sum += uniformRun(v, rs, re, c, h);
+                i = re;
+            }
+            for (; i < hi; i++) {
                 double d = v - shift[i];
                 sum += whPrev[i] * Math.exp(c * d * d);
             }
             whCur[j] *= scale * sum;
         }
+    }
+
+    /**
+     * sum_{i in [rs, re)} whPrev[i] exp(c (v - shift[i])^2) on a run where shift[i] = shift[rs] + (i - rs) h.
+     * With p the run point nearest to v and d_p = v - shift[p],
+     * exp(c (d_p -+ n h)^2) = exp(c d_p^2) E^{+-n} G_n with E = exp(-2 c d_p h) and G_n = exp(c h^2 n^2)
+     * tabulated once per look: two exponentials per row instead of one per term. Two interleaved
+     * power chains keep the multiply latency off the critical path. n stops where G_n underflows,
+     * which also keeps E^n finite (|c| h^2 n^2 &lt;= 700 implies |c| h^2 n &lt;= 700).
+     */
+    private double uniformRun(double v, int rs, int re, double c, double h) {
+        int p = rs + (int) Math.round((v - shift[rs]) / h);
+        p = Math.max(rs, Math.min(re - 1, p));
+        double dp = v - shift[p];
+        double right = chain(p, Math.min(re - 1 - p, gaussLength - 1), 1, Math.exp(-2 * c * dp * h));
+        double left = chain(p, Math.min(p - rs, gaussLength - 1), -1, Math.exp(2 * c * dp * h));
+        return Math.exp(c * dp * dp) * (whPrev[p] + right + left);
+    }
+
+    /** sum_{n=1..count} whPrev[p + dir n] e^n G_n, two chains interleaved. */
+    private double chain(int p, int count, int dir, double e) {
+        double e2 = e * e;
+        double x1 = e;
+        double x2 = e2;
+        double s1 = 0;
+        double s2 = 0;
+        int n = 1;
+        for (; n + 1 <= count; n += 2) {
+            s1 += whPrev[p + dir * n] * x1 * gauss[n];
+            s2 += whPrev[p + dir * (n + 1)] * x2 * gauss[n + 1];
+            x1 *= e2;
+            x2 *= e2;
+        }
+        if (n <= count) {
+            s1 += whPrev[p + dir * n] * x1 * gauss[n];
+        }
+        return s1 + s2;
     }
 }

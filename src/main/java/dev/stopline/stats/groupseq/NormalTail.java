@@ -70,4 +70,14 @@ final class NormalTail {
         c = y + 1 / c;
         return e / c / SQRT_2PI;
     }
+
+    /**
+     * Rough upper quantile z with 1 - Phi(z) ~ q, 0 &lt; q &lt;= 0.5, absolute error below 4.5e-4
+     * (Abramowitz &amp; Stegun 1964, formula 26.2.23). Only for starting guesses of root finders:
+     * Commons Math's {@code erfcInv} cost about a fifth of a K = 10 futility design when used here.
+     */
+    static double roughUpperQuantile(double q) {
+        double t = Math.sqrt(-2 * Math.log(q));
+        return t - (2.515517 + t * (0.802853 + t * 0.010328)) / (1 + t * (1.432788 + t * (0.189269 + t * 0.001308)));
+    }
 }

@@ -92,7 +92,7 @@ class CrossingProbabilitiesTest {
             g.beginLook(t[k]);
             out[0][k] = g.upperExit(hi[k]);
             out[1][k] = g.lowerExit(lo[k]);
-            g.endLook(lo[k], hi[k], Double.NaN, Double.NaN);
+            g.endLook(lo[k], hi[k], Double.NaN, Double.NaN, k + 1 < t.length ? t[k + 1] : Double.NaN);
         }
         return out;
     }
@@ -116,6 +116,30 @@ class CrossingProbabilitiesTest {
             double mcTotal = sum(mc[0]);
             assertClose(mcTotal, total, 3 * Math.sqrt(mcTotal * (1 - mcTotal) / n), "total upper theta " + theta);
         }
+    }
+
+    @Test
+    void looksCloseTogether_refineTheGridAndStillAgreeWithSeededMonteCarlo() {
+        // Regression: with the fixed r = 16 grid, increments of 1e-6 gave "probabilities" above 1.
+        double[] t = {0.5, 0.5001, 0.5003, 1};
+        double[] lo = {-INF, -INF, -INF, -INF};
+        double[] hi = {2.2, 2.2, 2.2, 2.0};
+        CrossingProbabilities.Result r = CrossingProbabilities.compute(t, lo, hi, 0.5);
+        int n = 200_000;
+        double[][] mc = monteCarlo(t, lo, hi, 0.5, n, 4242L);
+        for (int k = 0; k < t.length; k++) {
+            double se = Math.sqrt(Math.max(mc[0][k] * (1 - mc[0][k]), 1.0 / n) / n);
+            assertClose(mc[0][k], r.upper()[k], 3 * se, "upper look " + (k + 1));
+        }
+        assertTrue(r.totalUpper() < 1);
+    }
+
+    @Test
+    void looksTooCloseForTheGrid_failWithTheRule() {
+        StatsException e = assertThrows(StatsException.class, () -> CrossingProbabilities.compute(
+                new double[] {0.5, 0.500001, 1}, new double[] {-INF, -INF, -INF}, new double[] {2, 2, 2}, 0));
+        assertTrue(e.getMessage().contains("too close together") && e.getMessage().contains("increments must be at least"),
+                e.getMessage());
     }
 
     static double[][] monteCarlo(double[] t, double[] lo, double[] hi, double theta, int n, long seed) {

@@ -106,7 +106,7 @@ class SpendingFunctionTest {
     void badParameters_failWithTheRule() {
         assertTrue(assertThrows(StatsException.class, () -> SpendingFunction.power(0.05, 0)).getMessage().contains("> 0"));
         assertTrue(assertThrows(StatsException.class, () -> SpendingFunction.power(0.05, Double.NaN)).getMessage().contains("> 0"));
-        assertTrue(assertThrows(StatsException.class, () -> SpendingFunction.hwangShihDeCani(0.05, 41)).getMessage().contains("<= 40"));
+        assertTrue(assertThrows(StatsException.class, () -> SpendingFunction.hwangShihDeCani(0.05, 21)).getMessage().contains("<= 20"));
         for (double a : new double[] {0, 1, -0.1, 1.5, Double.NaN}) {
             StatsException e = assertThrows(StatsException.class, () -> SpendingFunction.pocockType(a));
             assertTrue(e.getMessage().contains("not in (0, 1)"), e.getMessage());
