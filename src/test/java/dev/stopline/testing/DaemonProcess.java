@@ -25,15 +25,22 @@ public final class DaemonProcess implements AutoCloseable {
         this.port = port;
     }
 
-    /** Starts {@code serve} and waits until its readiness check answers 200. */
+    /** Starts {@code serve} against a broker and database, and waits until its readiness check answers 200. */
     public static DaemonProcess start(String bootstrapServers, String jdbcUrl, Path plansDir, Path log,
                                       String... extraArgs) {
+        List<String> args = new ArrayList<>(List.of("--bootstrap-servers", bootstrapServers, "--jdbc-url", jdbcUrl,
+                "--plans-dir", plansDir.toString()));
+        args.addAll(List.of(extraArgs));
+        return serve(args, log);
+    }
+
+    /** Starts {@code serve} with the given options (a free {@code --port} is added) and waits until it is ready. */
+    public static DaemonProcess serve(List<String> options, Path log) {
         String jar = System.getProperty("stopline.jar", "target/quarkus-app/quarkus-run.jar");
         int port = FreePorts.pick();
         List<String> cmd = new ArrayList<>(List.of(Path.of(System.getProperty("java.home"), "bin", "java").toString(),
-                "-Xmx512m", "-jar", jar, "serve", "--bootstrap-servers", bootstrapServers, "--jdbc-url", jdbcUrl,
-                "--plans-dir", plansDir.toString(), "--port", Integer.toString(port)));
-        cmd.addAll(List.of(extraArgs));
+                "-Xmx512m", "-jar", jar, "serve", "--port", Integer.toString(port)));
+        cmd.addAll(options);
         try {
             Process p = new ProcessBuilder(cmd).redirectErrorStream(true)
                     .redirectOutput(ProcessBuilder.Redirect.appendTo(log.toFile())).start();
