@@ -153,7 +153,7 @@ public final class PlanValidator {
             add("primary.boundary", p.boundary().key() + " is a classical boundary for equally spaced looks k/K, got looks "
                     + p.looks().fractions() + "; use spending: " + p.boundary().key() + " for unequal looks");
         }
-        if (p.futility() != null && p.boundary() != null) {
+        if (p.futility() != null && p.boundary() != null && p.spending() == null) {
             add("primary.futility", "a classical " + p.boundary().key() + " boundary has no futility part; use spending: "
                     + p.boundary().key() + " with futility");
         } else if (p.futility() != null) {

@@ -19,6 +19,7 @@ import org.junit.jupiter.params.provider.MethodSource;
  * The expected texts are the rule statements the plan reference asks for.
  */
 class PlanValidatorTest {
+    static final String FUTILITY_LINE = "  futility: {spending: \"power:2\", beta: 0.2, binding: false}\n";
 
     static Stream<Arguments> oneBrokenRule() {
         return Stream.of(
@@ -44,8 +45,6 @@ class PlanValidatorTest {
                         "primary.looks: the last look must be at information fraction 1, got 0.8"),
                 Arguments.of("[0.2, 0.4, 0.6, 0.8, 1.0]", "[0, 1]",
                         "primary.looks[0]: information fraction must be in (0, 1], got 0"),
-                Arguments.of("spending: obrien-fleming\n  looks: [0.2, 0.4, 0.6, 0.8, 1.0]", "boundary: pocock\n  looks: [0.3, 0.6, 1.0]",
-                        "primary.boundary: pocock is a classical boundary for equally spaced looks k/K, got looks [0.3, 0.6, 1.0]; use spending: pocock for unequal looks"),
                 Arguments.of("  maxUnitsPerArm: 60000\n", "",
                         "primary.maxUnitsPerArm: required, or power with minimumEffect and baselineRate to size from"),
                 Arguments.of("maxUnitsPerArm: 60000", "power: 0.8", "primary.minimumEffect: required to size from power"),
@@ -117,7 +116,22 @@ class PlanValidatorTest {
     }
 
     @Test
+    void classicalBoundary_onUnequalLooks_isRefusedWithTheWayOut() {
+        String yaml = PlanParserTest.VALID.replace(FUTILITY_LINE, "").replace("spending: obrien-fleming\n  looks: [0.2, 0.4, 0.6, 0.8, 1.0]",
+                "boundary: pocock\n  looks: [0.3, 0.6, 1.0]");
+        assertEquals(List.of("primary.boundary: pocock is a classical boundary for equally spaced looks k/K, got looks "
+                + "[0.3, 0.6, 1.0]; use spending: pocock for unequal looks"), problems(yaml));
+    }
+
+    @Test
+    void classicalBoundary_withFutility_isRefusedWithTheWayOut() {
+        assertEquals(List.of("primary.futility: a classical pocock boundary has no futility part; use spending: pocock "
+                + "with futility"), problems(VALID.replace("spending: obrien-fleming", "boundary: pocock")));
+    }
+
+    @Test
     void classicalBoundary_acceptsEquallySpacedLooks_givenAsAListOrAsCount() {
+        String VALID = PlanParserTest.VALID.replace(FUTILITY_LINE, "");
         assertEquals(List.of(), problems(VALID.replace("spending: obrien-fleming", "boundary: pocock")));
         assertEquals(List.of(), problems(VALID.replace("spending: obrien-fleming", "boundary: obrien-fleming")
                 .replace("[0.2, 0.4, 0.6, 0.8, 1.0]", "3")));
@@ -155,11 +169,11 @@ class PlanValidatorTest {
     }
 
     /** The grammar as SpendingFunction states it in every parse error. */
-    private static final String GRAMMAR = "expected obrien-fleming | pocock | hwang-shih-decani:GAMMA (finite, |GAMMA| <= 40) | power:RHO (finite, RHO > 0)";
+    private static final String GRAMMAR = "expected " + dev.stopline.stats.groupseq.SpendingFunction.GRAMMAR;
 
     @ParameterizedTest
     @CsvSource({"obrien-fleming", "pocock", "Pocock", "hwang-shih-decani:-4", "hwang-shih-decani:1", "hwang-shih-decani:0",
-            "hwang-shih-decani:40", "power:1", "power:2.5", "power:3e0"})
+            "hwang-shih-decani:20", "power:1", "power:2.5", "power:3e0"})
     void spendingGrammar_acceptsWhatTheEngineBuilds(String spec) {
         assertNull(PlanValidator.spendingProblem(spec));
     }
@@ -170,7 +184,7 @@ class PlanValidatorTest {
             "power:-1|power-family rho -1.0 must be finite and > 0",
             "power:NaN|spending function 'power:NaN' has a parameter that is not a number; ",
             "pocock:2|spending function 'pocock:2' takes no parameter; ",
-            "hwang-shih-decani:41|Hwang-Shih-DeCani gamma 41.0 must be finite with |gamma| <= 40.0",
+            "hwang-shih-decani:21|Hwang-Shih-DeCani gamma 21.0 must be finite with |gamma| <= 20.0",
             "kim-demets:2|unknown spending function 'kim-demets:2'; ",
             "obrein-fleming|unknown spending function 'obrein-fleming'; "})
     void spendingGrammar_rejectsWithTheEnginesRule(String spec, String rulePrefix) {
