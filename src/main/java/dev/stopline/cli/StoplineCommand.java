@@ -10,7 +10,7 @@ import picocli.CommandLine.Spec;
         mixinStandardHelpOptions = true,
         versionProvider = VersionProvider.class,
         description = "Watches running experiments and says, with valid sequential evidence, when one may stop.",
-        subcommands = {ServeCommand.class, DemoCommand.class})
+        subcommands = {ServeCommand.class, DemoCommand.class, SimulateCommand.class, BenchCommand.class})
 public final class StoplineCommand implements Runnable {
     @Spec
     CommandSpec spec;
