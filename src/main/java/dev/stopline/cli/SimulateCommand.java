@@ -72,6 +72,9 @@ public final class SimulateCommand implements Callable<Integer> {
     @Option(names = "--report", description = "Also write a self-contained HTML report with charts to this file.")
     Path report;
 
+    /** The parsed --traffic forecast, or null. */
+    private TrafficForecast forecast;
+
     /** A bad option: the message names the option and the rule. */
     static final class BadOption extends Exception {
         private static final long serialVersionUID = 1L;
@@ -159,7 +162,8 @@ public final class SimulateCommand implements Callable<Integer> {
         }
         if (traffic != null) {
             try {
-                r = r.withTraffic(TrafficForecast.read(traffic));
+                forecast = TrafficForecast.read(traffic);
+                r = r.withTraffic(forecast);
             } catch (IOException e) {
                 throw new BadOption("--traffic: cannot read " + traffic + ": " + e.getMessage());
             } catch (IllegalArgumentException e) {
@@ -208,8 +212,8 @@ public final class SimulateCommand implements Callable<Integer> {
             notes.add("[MC data-level] draws " + (r.calendar() == null ? "one snapshot per 1/50 of the maximum size"
                     : "daily traffic from the forecast") + " and runs the daemon's evaluator on every snapshot; "
                     + "guardrails have no true harm and the split is correct, so their alerts are false alarms.");
-            for (String b : DataLevelEngine.of(r.plan(), null).baselineNotes()) {
-                if (b.endsWith("(assumed)") && (traffic == null)) {
+            for (String b : DataLevelEngine.of(r.plan(), forecast).baselineNotes()) {
+                if (b.endsWith("(assumed)")) {
                     notes.add("baseline " + b + ": give it under 'metrics:' in a --traffic forecast");
                 }
             }

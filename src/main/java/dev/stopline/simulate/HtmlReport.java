@@ -272,7 +272,9 @@ public final class HtmlReport {
                 pts.append(f("%.1f,%.1f ", fr.x(e), fr.y(p)));
             }
             s.append(f("<polyline points=\"%s\" fill=\"none\" stroke=\"%s\" stroke-width=\"2.2\"/>", pts.toString().trim(), EFFICACY));
-            s.append(f("<text x=\"%.1f\" y=\"%.1f\" class=\"series\" fill=\"%s\">exact</text>", fr.x(x1) - 40, 30.0, EFFICACY));
+            s.append(f("<line x1=\"%.1f\" y1=\"26\" x2=\"%.1f\" y2=\"26\" stroke=\"%s\" stroke-width=\"2.2\"/>", fr.left() + 12,
+                    fr.left() + 36, EFFICACY));
+            s.append(f("<text x=\"%.1f\" y=\"30\" class=\"series\" fill=\"%s\">exact</text>", fr.left() + 42, EFFICACY));
         }
         for (RehearsalResult.EffectResult e : es) {
             Characteristics c = e.monteCarlo() != null ? e.monteCarlo() : e.dataLevel() != null ? e.dataLevel().primary() : null;
@@ -288,7 +290,8 @@ public final class HtmlReport {
             s.append(f("<text x=\"%.1f\" y=\"%.1f\" class=\"tick\" text-anchor=\"start\">%s</text>", x + 7,
                     fr.y(c.efficacy()) - 6, f("%.3f", c.efficacy())));
         }
-        s.append(f("<text x=\"%.1f\" y=\"%.1f\" class=\"series\" fill=\"%s\">o Monte Carlo</text>", fr.x(x1) - 110, 50.0, INK));
+        s.append(f("<circle cx=\"%.1f\" cy=\"46\" r=\"4\" fill=\"white\" stroke=\"%s\" stroke-width=\"1.8\"/>", fr.left() + 24, INK));
+        s.append(f("<text x=\"%.1f\" y=\"50\" class=\"series\" fill=\"%s\">Monte Carlo, 95%% error bar</text>", fr.left() + 42, INK));
         return s.append("</svg>").toString();
     }
 
@@ -298,7 +301,7 @@ public final class HtmlReport {
             Characteristics c = e.exact() != null ? e.exact() : e.headline();
             double[] p = c.stopLook();
             int n = Math.min(p.length, 40);
-            Frame fr = new Frame(340, 220, 44, 10, 22, 36, 0.5, n + 0.5, 0, 1);
+            Frame fr = new Frame(340, 220, 54, 10, 22, 36, 0.5, n + 0.5, 0, 1);
             s.append(fr.open("Stopping look at effect " + fmt(e.effect())));
             fr.axes(s, n <= 10 ? range(1, n) : new double[] {1, Math.round(n / 2.0), n}, new double[] {0, 0.5, 1},
                     r.zPlan() != null ? "look" : "snapshot", "probability", true);
@@ -312,7 +315,7 @@ public final class HtmlReport {
                             fr.y(p[k]) - 4, p[k]));
                 }
             }
-            s.append(f("<text x=\"%.1f\" y=\"14\" class=\"series\" fill=\"%s\">effect %s (%s)</text></svg>", 44.0, INK,
+            s.append(f("<text x=\"%.1f\" y=\"14\" class=\"series\" fill=\"%s\">effect %s (%s)</text></svg>", 54.0, INK,
                     esc(fmt(e.effect())), c.method()));
         }
         return s.append("</div>").toString();
@@ -327,7 +330,7 @@ public final class HtmlReport {
             last = Math.max(last, e.late().toEpochDay() + 1);
         }
         double rowH = 30;
-        Frame fr = new Frame(720, 60 + rowH * en.size(), 150, 30, 16, 40, 0, last - first, 0, en.size());
+        Frame fr = new Frame(720, 60 + rowH * en.size(), 150, 96, 16, 40, 0, last - first, 0, en.size());
         StringBuilder s = new StringBuilder(fr.open("Look calendar"));
         fr.axes(s, ticks(0, last - first), new double[0], "days from " + cal.start(), "", false);
         for (int i = 0; i < en.size(); i++) {

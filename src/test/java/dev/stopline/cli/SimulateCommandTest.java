@@ -112,4 +112,17 @@ class SimulateCommandTest {
         assertTrue(html.contains("stroke-dasharray"), "futility drawn dashed, not by colour alone");
         assertTrue(html.contains("Look calendar"));
     }
+
+    @Test
+    void report_sprtPlan_hasThePowerAndStoppingChartsButNoBoundaries(@TempDir Path dir) throws IOException {
+        Path report = dir.resolve("gift.html");
+        Run r = run("simulate", "--plan", "config/plans/gift-wrap-upsell.yaml", "--trials", "20", "--report",
+                report.toString());
+        assertEquals(0, r.code(), r.err());
+        String html = Files.readString(report);
+        assertFalse(html.contains("http"), "no address of anything outside the file");
+        // Power curve and one stopping panel per effect (0 and 0.01); no boundaries, no calendar without traffic.
+        assertEquals(3, Pattern.compile("<svg ").matcher(html).results().count(), "charts");
+        assertTrue(html.contains("Power curve") && !html.contains("Boundaries and simulated paths"));
+    }
 }
