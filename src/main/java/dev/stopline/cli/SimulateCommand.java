@@ -100,6 +100,11 @@ public final class SimulateCommand implements Callable<Integer> {
         RehearsalResult result;
         try {
             result = rehearsal.withProgress(bar).run();
+        } catch (DataLevelEngine.EvaluatorFailure e) {
+            bar.stop();
+            err.println("simulate: " + e.getMessage() + "; --data-trials 0 skips the data-level engine");
+            err.flush();
+            return 1;
         } finally {
             bar.stop();
         }

@@ -192,6 +192,16 @@ public final class DataLevelEngine {
         return summarise(all);
     }
 
+    /** The daemon's evaluator threw on a simulated snapshot: the daemon would fail the same way on real data. */
+    public static final class EvaluatorFailure extends IllegalStateException {
+        private static final long serialVersionUID = 1L;
+
+        EvaluatorFailure(int snapshot, RuntimeException cause) {
+            super("the daemon's evaluator failed on simulated snapshot " + snapshot + " (it would fail the same way "
+                    + "in the daemon): " + cause.getMessage(), cause);
+        }
+    }
+
     /** What one trial did. */
     record Outcome(Decision decision, int look, long units, int day, boolean[] guardrailAlarm, boolean srmAlarm,
                    double overshootSum, int formalLooks) {
@@ -220,7 +230,12 @@ public final class DataLevelEngine {
                 }
             }
             Snapshot snap = snapshot(day, clock.endOfDay(day), units, sum, sumSq);
-            Evaluation ev = monitor.evaluate(state, snap);
+            Evaluation ev;
+            try {
+                ev = monitor.evaluate(state, snap);
+            } catch (RuntimeException e) {
+                throw new EvaluatorFailure(day + 1, e);
+            }
             state = ev.state();
             for (Alert alert : ev.alerts()) {
                 if (alert.kind() == AlertKind.SAMPLE_RATIO) {
