@@ -296,6 +296,7 @@ public final class SimulateCommand implements Callable<Integer> {
                 if (drawn) {
                     err.print("\r" + " ".repeat(60) + "\r");
                     err.flush();
+                    drawn = false;
                 }
             }
         }
