@@ -10,7 +10,8 @@ import picocli.CommandLine.Spec;
         mixinStandardHelpOptions = true,
         versionProvider = VersionProvider.class,
         description = "Watches running experiments and says, with valid sequential evidence, when one may stop.",
-        subcommands = {DesignCommand.class, ServeCommand.class, DemoCommand.class, ReplayCommand.class})
+        subcommands = {DesignCommand.class, SimulateCommand.class, ServeCommand.class, DemoCommand.class,
+            ReplayCommand.class, BenchCommand.class})
 public final class StoplineCommand implements Runnable {
     @Spec
     CommandSpec spec;

@@ -16,6 +16,6 @@ class MainTest {
         cli.setErr(new PrintWriter(err));
         int code = cli.execute();
         assertEquals(2, code, "picocli's exit code for a usage error");
-        assertTrue(err.toString().contains("a subcommand is required: design, serve, demo"), err.toString());
+        assertTrue(err.toString().contains("a subcommand is required: design, simulate, serve, demo, replay, bench"), err.toString());
     }
 }
