@@ -54,7 +54,7 @@ public final class StoppingProbabilities {
                 fut[i] = sides == 2 ? g.innerExit(a) : g.lowerExit(a);
             }
             if (i + 1 < k) {
-                g.endLook(sides, efficacy[i], a);
+                g.endLook(sides, efficacy[i], a, timing[i + 1]);
             }
         }
         return new Result(up, down, fut);
