@@ -314,7 +314,7 @@ public final class ExperimentMonitor {
      */
     private LookBoundary boundaryAt(double[] fractions) {
         if (plan.primary().boundary() == null) {
-            return Boundaries.next(design, fractions);
+            return Boundaries.next(planned, fractions);
         }
         double t = fractions[fractions.length - 1];
         int reached = 0;
