@@ -22,7 +22,7 @@ import java.util.Locale;
  *
  * <p>Layout (fixed, so that geometry can be tested): a {@value #WIDTH} x {@value #HEIGHT} view box
  * with the plot box from x = {@value #LEFT} to {@code WIDTH - RIGHT} and from y = {@value #TOP} to
- * {@code HEIGHT - BOTTOM}; the right margin holds the line labels. A fraction t maps linearly to
+ * {@code HEIGHT - BOTTOM}; the right margin holds the labels of lines that run to the end. A fraction t maps linearly to
  * {@code LEFT + t / xMax * PLOT_WIDTH}, a z value to {@code TOP + (yHigh - z) / (yHigh - yLow) * PLOT_HEIGHT}
  * (log10 of p on the p scale). Values outside the axis range are drawn at its edge. Meaning is never
  * carried by colour alone: every line has its own dash pattern and a text label.
@@ -39,7 +39,7 @@ public final class BoundaryChart {
     /** The z axis never extends beyond +/- this; larger values are drawn at the edge. */
     public static final double Z_LIMIT = 8;
     /** Markers are drawn at each look only up to this many looks (SPRTs look at every snapshot). */
-    static final int MAX_MARKERS = 60;
+    static final int MAX_MARKERS = 30;
 
     private static final String INK = "#1d232b";
     private static final String EFFICACY = "#0b6e4f";
@@ -416,21 +416,24 @@ public final class BoundaryChart {
         }
     }
 
-    /** Line labels in the right margin, at the height where each line ends, pushed apart to stay legible. */
+    /**
+     * Line labels just right of where each line ends (in the right margin when it ends at the last
+     * fraction), pushed apart vertically to stay legible.
+     */
     private void labels(StringBuilder b) {
-        record Label(double y, String text, String colour, String series) {
+        record Label(double x, double y, String text, String colour, String series) {
         }
         List<Label> out = new ArrayList<>();
         for (Line l : lines) {
             if (l.label() != null && !l.points().isEmpty()) {
                 Point last = l.points().get(l.points().size() - 1);
-                out.add(new Label(y(last.value()), l.label(), l.stroke().colour, l.series()));
+                out.add(new Label(x(last.fraction()), y(last.value()), l.label(), l.stroke().colour, l.series()));
             }
         }
         List<Point> drawable = path.stream().filter(p -> Double.isFinite(p.value())).toList();
         if (!drawable.isEmpty()) {
             Point last = drawable.get(drawable.size() - 1);
-            out.add(new Label(y(last.value()), pathLabel, INK, "observed"));
+            out.add(new Label(x(last.fraction()), y(last.value()), pathLabel, INK, "observed"));
         }
         out.sort(Comparator.comparingDouble(Label::y));
         double[] ys = new double[out.size()];
@@ -442,11 +445,11 @@ public final class BoundaryChart {
             double limit = i == ys.length - 1 ? TOP + PLOT_HEIGHT : ys[i + 1] - gap;
             ys[i] = Math.min(ys[i], limit);
         }
-        double lx = LEFT + PLOT_WIDTH + 8;
         for (int i = 0; i < ys.length; i++) {
             Label l = out.get(i);
             b.append(String.format(Locale.ROOT, "<text data-label=\"%s\" x=\"%.2f\" y=\"%.2f\" fill=\"%s\" "
-                    + "font-weight=\"600\">%s</text>", l.series(), lx, ys[i] + 4, l.colour(), Html.esc(l.text())));
+                            + "font-weight=\"600\" paint-order=\"stroke\" stroke=\"#ffffff\" stroke-width=\"3\">%s</text>",
+                    l.series(), l.x() + 9, ys[i] + 4, l.colour(), Html.esc(l.text())));
         }
     }
 

@@ -165,8 +165,8 @@ public final class StatusPages {
         fact(b, "Snapshots", s.snapshots() + (s.lastObservedAt() == null ? ""
                 : " <span class=\"muted\">last observed " + time(s.lastObservedAt()) + "</span>"));
         fact(b, "Maximum size", String.format(Locale.ROOT, "%,d units per arm", page.detail().maxUnitsPerArm()));
-        fact(b, "Plan", "version " + s.planVersion() + (s.locked() ? " \u00b7 locked: changes need an amendment"
-                : " \u00b7 not locked yet"));
+        fact(b, "Plan", "version " + s.planVersion() + (s.locked()
+                ? " \u00b7 locked <span class=\"muted\">(amend to change)</span>" : " \u00b7 not locked yet"));
         b.append("</dl>");
     }
 
@@ -180,10 +180,67 @@ public final class StatusPages {
         Primary p = page.plan().primary();
         BoundaryChart chart = chartOf(page);
         b.append("<section id=\"chart\"><h2>").append(p.method() == Method.MIXTURE_SPRT
-                ? "Always-valid p-value" : "z statistic against the boundaries").append("</h2><figure>")
-                .append(chart.svg()).append("<figcaption>");
+                ? "Always-valid p-value" : "z statistic against the boundaries").append("</h2><div class=\"chart-wrap\">"
+                + "<figure>").append(chart.svg()).append("<figcaption>");
         legend(b, p.method(), sides(p));
-        b.append("</figcaption></figure></section>");
+        b.append("</figcaption></figure>");
+        reading(b, page);
+        b.append("</div></section>");
+    }
+
+    /** The numbers of the last look beside the chart, in words. */
+    private static void reading(StringBuilder b, ExperimentPage page) {
+        Primary p = page.plan().primary();
+        List<LookRecord> primary = primaryLooks(page.looks());
+        b.append("<aside class=\"reading\"><h3>At the last look</h3>");
+        if (primary.isEmpty()) {
+            List<ExperimentView.BoundaryPoint> planned = page.detail().plannedBoundaries();
+            b.append("<p class=\"muted\">No look yet.");
+            if (!planned.isEmpty()) {
+                b.append(" The first formal look is taken at information fraction ")
+                        .append(fixed(planned.get(0).informationFraction(), 2)).append('.');
+            }
+            b.append("</p></aside>");
+            return;
+        }
+        LookRecord l = primary.get(primary.size() - 1);
+        int sides = sides(p);
+        b.append("<dl>");
+        fact(b, "Look", l.look() + " <span class=\"muted\">at fraction " + fixed(l.informationFraction(), 3)
+                + "</span>");
+        fact(b, "z statistic", fixed(l.z(), 2));
+        fact(b, "Difference", signed(l.estimate()) + " <span class=\"muted\">(" + signed(l.intervalLower()) + ", "
+                + signed(l.intervalUpper()) + ")</span>");
+        if (p.method() == Method.GROUP_SEQUENTIAL) {
+            fact(b, "Efficacy boundary", (sides == 2 ? "\u00b1" : "") + fixed(l.efficacyZ(), 3));
+            fact(b, "Alpha spent", prob(l.cumulativeAlphaSpent()) + " <span class=\"muted\">of "
+                    + BoundaryChart.trim(p.alpha()) + "</span>");
+            if (l.adjustedPValue() != null) {
+                fact(b, "Adjusted p (stage-wise)", prob(l.adjustedPValue()));
+            }
+            if (l.medianUnbiasedEstimate() != null) {
+                fact(b, "Median-unbiased estimate", signed(l.medianUnbiasedEstimate()));
+            }
+            if (l.conditionalPowerCurrent() != null) {
+                fact(b, "Conditional power", fixed(100 * l.conditionalPowerCurrent(), 1) + "% <span class=\"muted\">"
+                        + "current trend; " + fixed(100 * orNaN(l.conditionalPowerDesign()), 1) + "% design effect"
+                        + "</span>");
+            }
+            if (!l.decision().endsPrimary()) {
+                page.detail().plannedBoundaries().stream().filter(bp -> bp.informationFraction()
+                        > l.informationFraction()).findFirst().ifPresent(bp -> fact(b, "Next look",
+                        "at fraction " + fixed(bp.informationFraction(), 2) + " <span class=\"muted\">planned boundary "
+                                + (sides == 2 ? "\u00b1" : "") + fixed(bp.efficacyZ(), 3) + "</span>"));
+            }
+        } else if (p.method() == Method.MIXTURE_SPRT) {
+            fact(b, "Always-valid p", prob(l.alwaysValidPValue()) + " <span class=\"muted\">stops at "
+                    + BoundaryChart.trim(p.alpha()) + "</span>");
+        } else {
+            BoundaryChart.Bound w = waldBound(p, l);
+            fact(b, "Thresholds (z)", fixed(w.futilityZ(), 2) + " and " + fixed(w.efficacyZ(), 2));
+        }
+        fact(b, "Decision", decision(l.decision().wireName()));
+        b.append("</dl></aside>");
     }
 
     private static void legend(StringBuilder b, Method method, int sides) {
@@ -686,6 +743,12 @@ public final class StatusPages {
             pre.source{background:#fbfaf6;border:1px solid var(--line);border-radius:4px;padding:12px;overflow:auto;
             font:13px/1.5 ui-monospace,SFMono-Regular,Menlo,Consolas,"DejaVu Sans Mono",monospace;margin:0}
             code{font-family:ui-monospace,SFMono-Regular,Menlo,Consolas,"DejaVu Sans Mono",monospace;font-size:.92em}
+            .chart-wrap{display:flex;flex-wrap:wrap;gap:18px 26px;align-items:flex-start}
+            .chart-wrap figure{flex:0 1 760px;min-width:0}
+            .reading{flex:1 1 230px;border-left:3px solid var(--ink);padding:2px 0 2px 16px}
+            .reading h3{margin:0 0 8px;font-size:14px;text-transform:uppercase;letter-spacing:.06em}
+            .reading dl{margin:0;display:grid;gap:7px}.reading dt{font-size:12px;color:var(--muted)}
+            .reading dd{margin:0;font-variant-numeric:tabular-nums}
             .verdict{margin:10px 0 0}.scroll{overflow-x:auto}.empty{padding:24px 0}
             footer{max-width:1180px;margin:0 auto;padding:4px 28px 28px;color:var(--muted);font-size:13px}
             """;
