@@ -449,7 +449,8 @@ public final class BoundaryChart {
             Label l = out.get(i);
             b.append(String.format(Locale.ROOT, "<text data-label=\"%s\" x=\"%.2f\" y=\"%.2f\" fill=\"%s\" "
                             + "font-weight=\"600\" paint-order=\"stroke\" stroke=\"#ffffff\" stroke-width=\"3\">%s</text>",
-                    l.series(), l.x() + 9, ys[i] + 4, l.colour(), Html.esc(l.text())));
+                    l.series(), l.x() + ("observed".equals(l.series()) ? 14 : 9), ys[i] + 4, l.colour(),
+                    Html.esc(l.text())));
         }
     }
 

@@ -13,6 +13,8 @@ import java.util.Locale;
 final class Html {
     private static final DateTimeFormatter TIME = DateTimeFormatter.ofPattern("yyyy-MM-dd HH:mm:ss 'UTC'",
             Locale.ROOT).withZone(ZoneOffset.UTC);
+    private static final DateTimeFormatter MINUTE = DateTimeFormatter.ofPattern("yyyy-MM-dd HH:mm 'UTC'",
+            Locale.ROOT).withZone(ZoneOffset.UTC);
 
     private Html() {
     }
@@ -62,6 +64,11 @@ final class Html {
     /** Full precision, for {@code data-value} attributes that tests and scripts can read back exactly. */
     static String raw(Double x) {
         return x == null ? "" : Double.toString(x);
+    }
+
+    /** To the minute, for tight places. */
+    static String minute(Instant t) {
+        return t == null ? "\u2013" : MINUTE.format(t);
     }
 
     static String time(Instant t) {

@@ -34,7 +34,7 @@ import java.util.Map;
 public final class StatusPages {
     public static final int REFRESH_SECONDS = 60;
     /** How many looks of an SPRT primary (one per snapshot) the evidence table shows, newest last. */
-    static final int SPRT_ROWS = 20;
+    static final int SPRT_ROWS = 12;
 
     private StatusPages() {
     }
@@ -149,24 +149,26 @@ public final class StatusPages {
         ExperimentView.Summary s = page.detail().summary();
         Primary p = page.plan().primary();
         b.append("<dl class=\"facts\">");
-        fact(b, "Primary", esc(p.metric()) + " <span class=\"muted\">(" + esc(p.type() == null ? null
-                : p.type().name().toLowerCase(Locale.ROOT)) + ")</span>");
-        fact(b, "Method", esc(s.method()) + " <span class=\"muted\">alpha " + BoundaryChart.trim(p.alpha()) + ", "
-                + (sides(p) == 2 ? "two-sided" : "one-sided") + "</span>");
+        fact(b, "Primary metric", esc(p.metric()) + " <span class=\"muted\">" + esc(p.type() == null ? null
+                : p.type().name().toLowerCase(Locale.ROOT)) + "</span>");
+        fact(b, "Method", esc(s.method()));
+        fact(b, "Level", "alpha " + BoundaryChart.trim(p.alpha()) + ", " + (sides(p) == 2 ? "two-sided" : "one-sided"));
         fact(b, "Information fraction", meter(s.informationFraction()));
         if (s.looksTaken() != null) {
-            fact(b, "Looks", s.looksTaken() + " of " + s.plannedLooks() + " planned");
+            fact(b, "Looks", s.looksTaken() + " of " + s.plannedLooks());
             fact(b, "Alpha spent", "<span data-field=\"alpha-spent\" data-value=\"" + raw(s.cumulativeAlphaSpent())
                     + "\">" + prob(s.cumulativeAlphaSpent()) + "</span> <span class=\"muted\">of "
                     + BoundaryChart.trim(p.alpha()) + "</span>");
         }
         fact(b, "Latest decision", s.latestDecision() == null ? "<span class=\"muted\">no look yet</span>"
                 : decision(s.latestDecision()));
-        fact(b, "Snapshots", s.snapshots() + (s.lastObservedAt() == null ? ""
-                : " <span class=\"muted\">last observed " + time(s.lastObservedAt()) + "</span>"));
-        fact(b, "Maximum size", String.format(Locale.ROOT, "%,d units per arm", page.detail().maxUnitsPerArm()));
+        fact(b, "Snapshots", String.valueOf(s.snapshots()));
+        fact(b, "Last snapshot", "<span title=\"" + time(s.lastObservedAt()) + "\">" + Html.minute(s.lastObservedAt())
+                + "</span>");
+        fact(b, "Maximum size", String.format(Locale.ROOT, "%,d <span class=\"muted\">per arm</span>",
+                page.detail().maxUnitsPerArm()));
         fact(b, "Plan", "version " + s.planVersion() + (s.locked()
-                ? " \u00b7 locked <span class=\"muted\">(amend to change)</span>" : " \u00b7 not locked yet"));
+                ? " \u00b7 <span title=\"changes need an amendment\">locked</span>" : " \u00b7 not locked yet"));
         b.append("</dl>");
     }
 
@@ -178,11 +180,11 @@ public final class StatusPages {
 
     private static void chart(StringBuilder b, ExperimentPage page) {
         Primary p = page.plan().primary();
-        BoundaryChart chart = chartOf(page);
+        String svg = chartOf(page).svg();
         b.append("<section id=\"chart\"><h2>").append(p.method() == Method.MIXTURE_SPRT
                 ? "Always-valid p-value" : "z statistic against the boundaries").append("</h2><div class=\"chart-wrap\">"
-                + "<figure>").append(chart.svg()).append("<figcaption>");
-        legend(b, p.method(), sides(p));
+                + "<figure>").append(svg).append("<figcaption>");
+        legend(b, p.method(), sides(p), svg.contains("-planned\""));
         b.append("</figcaption></figure>");
         reading(b, page);
         b.append("</div></section>");
@@ -243,7 +245,7 @@ public final class StatusPages {
         b.append("</dl></aside>");
     }
 
-    private static void legend(StringBuilder b, Method method, int sides) {
+    private static void legend(StringBuilder b, Method method, int sides, boolean plannedShown) {
         b.append("<ul class=\"legend\">");
         legendItem(b, "#1d232b", null, "2.6", "observed " + (method == Method.MIXTURE_SPRT ? "always-valid p" : "z")
                 + " at each look (dots)");
@@ -255,7 +257,7 @@ public final class StatusPages {
                     + sprt);
             legendItem(b, "#a14d00", "1 5", "2.2", method == Method.SPRT ? "futility: accept no lift below it"
                     : sides == 2 ? "futility band: stop for futility inside it" : "futility boundary");
-            if (method == Method.GROUP_SEQUENTIAL) {
+            if (plannedShown) {
                 legendItem(b, "#0b6e4f", "9 5", "1.3", "thinner: planned boundaries of looks not taken yet");
             }
         }
@@ -531,7 +533,8 @@ public final class StatusPages {
         for (AlertItem a : page.alerts()) {
             var alert = a.stored().alert();
             b.append("<tr data-alert=\"").append(esc(alert.id())).append("\"><td class=\"time\">")
-                    .append(time(a.stored().createdAt())).append("</td><td>").append(alertKind(alert.kind().wireName()))
+                    .append(time(a.stored().createdAt())).append("</td><td class=\"nowrap\">")
+                    .append(alertKind(alert.kind().wireName()))
                     .append("</td><td>").append(alert.metric() == null ? "<span class=\"muted\">\u2013</span>"
                             : esc(alert.metric())).append("</td><td class=\"num\">")
                     .append(alert.lookNumber() == null ? "\u2013" : alert.lookNumber()).append("</td><td>")
@@ -712,10 +715,10 @@ public final class StatusPages {
             .muted{color:var(--muted)}.note{color:var(--muted);font-size:13px;margin:0 0 10px}
             .exp-head{display:flex;justify-content:space-between;align-items:flex-start;gap:16px;margin-bottom:12px}
             .exp-head .state .st{font-size:16px;padding:5px 12px}
-            .facts{display:grid;grid-template-columns:repeat(auto-fill,minmax(210px,1fr));gap:8px 18px;margin:0 0 18px;
+            .facts{display:grid;grid-template-columns:repeat(auto-fill,minmax(160px,1fr));gap:10px 16px;margin:0 0 18px;
             padding:12px 18px;background:var(--card);border:1px solid var(--line);border-radius:6px}
             .facts dt{font-size:12px;text-transform:uppercase;letter-spacing:.06em;color:var(--muted)}
-            .facts dd{margin:0;font-variant-numeric:tabular-nums}
+            .facts dd{margin:0;font-variant-numeric:tabular-nums;font-size:14px;white-space:nowrap}
             table{border-collapse:collapse;width:100%;font-size:14px}
             th{text-align:left;font-size:12px;text-transform:uppercase;letter-spacing:.05em;color:var(--muted);
             font-weight:600;border-bottom:1px solid var(--line);padding:6px 10px 6px 0;vertical-align:bottom}
@@ -732,7 +735,7 @@ public final class StatusPages {
             .st-warn{color:var(--warn);background:var(--warnbg)}.st-bad{color:var(--bad);background:var(--badbg)}
             .st-end{color:var(--end);background:var(--endbg)}.st-wait{color:var(--muted);background:#f1f0ec}
             .st-open{color:var(--bad);background:#fff}
-            .kind{display:inline-block;margin-right:6px;font-size:13px}.count{font-variant-numeric:tabular-nums}
+            .kind{display:inline-block;margin-right:6px;font-size:13px;white-space:nowrap}td.nowrap{white-space:nowrap}.count{font-variant-numeric:tabular-nums}
             .meter{display:inline-flex;align-items:center;gap:6px;font-variant-numeric:tabular-nums}
             .bar{display:inline-block;width:90px;height:8px;border:1px solid var(--ink);border-radius:2px;
             background:#fff}.bar span{display:block;height:100%;background:var(--ink)}

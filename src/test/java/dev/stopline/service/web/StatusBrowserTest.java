@@ -48,14 +48,20 @@ import org.junit.jupiter.api.Test;
 @QuarkusTest
 @QuarkusTestResource(KafkaTestResource.class)
 class StatusBrowserTest {
-    /** An id of our own, so that other tests feeding the example plans cannot interleave with ours. */
-    static final String ID = "status-page-checkout";
+    /**
+     * An id of our own (the checkout redesign on an invented second storefront), so that other tests
+     * feeding the example plans cannot interleave with ours.
+     */
+    static final String ID = "checkout-redesign-eu";
     private static final long SEED = 20260301L; // any fixed seed: the scenario is deterministic
     private static final Instant START = Instant.parse("2026-03-02T00:00:00Z");
     private static final int HOURS = 48;
     private static final long BROWSER_TIMEOUT_SECONDS = 90;
-    /** Set as the document title by the hostile description if it were ever executed. */
-    private static final String HOSTILE = "Checkout <b>test</b> <script>document.title='injected'</script> & more";
+    /**
+     * A hostile actor name (free text from the X-Stopline-Actor header, shown in the audit trail); its
+     * script would set the document title if it were ever executed.
+     */
+    private static final String HOSTILE = "ops <b>bot</b> <script>document.title='injected'</script> & co";
 
     @Inject
     PlanRegistry plans;
@@ -73,11 +79,9 @@ class StatusBrowserTest {
             return; // already fed by an earlier test of this class (one application per run)
         }
         String yaml = Files.readString(Path.of("config/plans/checkout-redesign.yaml"))
-                .replace("experiment: checkout-redesign", "experiment: " + ID)
-                .replace("description: One-page checkout against the current three-step checkout.",
-                        "description: \"" + HOSTILE + "\"");
-        assertTrue(yaml.contains(HOSTILE), "the example plan changed; adapt the replacement above");
-        PlanRegistry.Result r = plans.register(yaml.getBytes(StandardCharsets.UTF_8), PlanParser.Format.YAML, "test");
+                .replace("experiment: checkout-redesign", "experiment: " + ID);
+        assertTrue(yaml.contains("experiment: " + ID), "the example plan changed; adapt the replacement above");
+        PlanRegistry.Result r = plans.register(yaml.getBytes(StandardCharsets.UTF_8), PlanParser.Format.YAML, HOSTILE);
         assertEquals(ID, r.experiment());
         BookshopScenario scenario = BookshopScenario.seeded(SEED, START);
         int index = scenario.experimentIds().indexOf("checkout-redesign");
@@ -122,8 +126,8 @@ class StatusBrowserTest {
         if (last.decision() == Decision.EFFICACY || last.decision() == Decision.FUTILITY) {
             assertTrue(dom.contains("look " + last.look() + ": " + last.decision().wireName()), "crossing label");
         }
-        assertTrue(dom.contains("<title>" + ID + " \u00b7 Stopline</title>"), "the hostile description ran no script");
-        assertTrue(dom.contains("Checkout &lt;b&gt;test&lt;/b&gt; &lt;script&gt;"), "shown as text");
+        assertTrue(dom.contains("<title>" + ID + " \u00b7 Stopline</title>"), "the hostile actor ran no script");
+        assertTrue(dom.contains("ops &lt;b&gt;bot&lt;/b&gt; &lt;script&gt;"), "shown as text in the audit trail");
 
         Path shot = Path.of("target", "status-page.png");
         Files.deleteIfExists(shot);
