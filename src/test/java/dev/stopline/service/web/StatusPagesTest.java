@@ -233,6 +233,27 @@ class StatusPagesTest {
     }
 
     @Test
+    void experimentWithoutSnapshots_showsThePlannedLooks_andSaysThatNothingWasSeenYet() {
+        Fixture f = FIXTURES.get("checkout-redesign");
+        Store.StoredPlan sp = new Store.StoredPlan(f.plan().experiment(), 1, PlanCanonical.toJson(f.plan()),
+                f.source(), PlanCanonical.sha256(f.plan()), START, null);
+        ExperimentView.Summary s = ExperimentView.summary(sp, f.monitor(), null, List.of(), 0);
+        ExperimentView.Detail d = ExperimentView.detail(s, sp, f.monitor(), null, List.of());
+        String html = StatusPages.experiment(new StatusPages.ExperimentPage(d, f.plan(), List.of(), null, List.of(),
+                List.of(), START));
+        assertTrue(html.contains("\u25cb waiting for data"), "state in symbol and words");
+        assertTrue(html.contains("no look taken yet"), "empty chart says so");
+        // checkout-redesign.yaml: five equally spaced looks, the first at 0.2
+        assertTrue(html.contains("The first formal look is taken at information fraction 0.20."));
+        for (int k = 1; k <= 5; k++) {
+            assertTrue(html.contains("data-planned=\"" + k + "\""), "planned look " + k);
+        }
+        assertTrue(html.contains("No snapshot yet."));
+        assertTrue(html.contains("No alert has been raised."));
+        assertTrue(html.contains("not locked yet"));
+    }
+
+    @Test
     void notFoundPage_namesTheIdAndLinksBack() {
         String html = StatusPages.notFound("no-such-thing", START);
         assertTrue(html.contains("<code>no-such-thing</code>"));
