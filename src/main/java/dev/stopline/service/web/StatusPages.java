@@ -76,13 +76,13 @@ public final class StatusPages {
             b.append("<p class=\"empty\">No plans are registered yet. Put plan files in the plans directory or "
                     + "POST one to <code>/api/plans</code>.</p>");
         } else {
-            b.append("<div class=\"scroll\"><table class=\"list\"><thead><tr><th>Experiment</th><th>State</th>"
+            b.append("<section class=\"list-card\"><div class=\"scroll\"><table class=\"list\"><thead><tr><th>Experiment</th><th>State</th>"
                     + "<th>Primary</th><th>Information fraction</th><th class=\"num\">Looks</th>"
                     + "<th>Latest decision</th><th>Open alerts</th><th>Updated</th></tr></thead><tbody>");
             for (Row r : rows) {
                 indexRow(b, r);
             }
-            b.append("</tbody></table></div>");
+            b.append("</tbody></table></div></section>");
         }
         b.append("</main>");
         foot(b, now, "/api/experiments");
@@ -211,8 +211,7 @@ public final class StatusPages {
         fact(b, "Look", l.look() + " <span class=\"muted\">at fraction " + fixed(l.informationFraction(), 3)
                 + "</span>");
         fact(b, "z statistic", fixed(l.z(), 2));
-        fact(b, "Difference", signed(l.estimate()) + " <span class=\"muted\">(" + signed(l.intervalLower()) + ", "
-                + signed(l.intervalUpper()) + ")</span>");
+        fact(b, "Difference", signed(l.estimate()) + interval(l.intervalLower(), l.intervalUpper()));
         if (p.method() == Method.GROUP_SEQUENTIAL) {
             fact(b, "Efficacy boundary", (sides == 2 ? "\u00b1" : "") + fixed(l.efficacyZ(), 3));
             fact(b, "Alpha spent", prob(l.cumulativeAlphaSpent()) + " <span class=\"muted\">of "
@@ -371,9 +370,8 @@ public final class StatusPages {
             cell(b, "efficacy", (sides == 2 ? "\u00b1" : "") + fixed(l.efficacyZ(), 3), l.efficacyZ());
             cell(b, "futility", futility(l.futilityZ(), sides), l.futilityZ());
             cell(b, "alpha", prob(l.cumulativeAlphaSpent()), l.cumulativeAlphaSpent());
-            b.append("<td class=\"num\">").append(signed(l.estimate())).append(" <span class=\"muted\">(")
-                    .append(signed(l.intervalLower())).append(", ").append(signed(l.intervalUpper()))
-                    .append(")</span></td><td>").append(decision(l.decision().wireName())).append("</td></tr>");
+            b.append("<td class=\"num\">").append(signed(l.estimate())).append(interval(l.intervalLower(),
+                    l.intervalUpper())).append("</td><td>").append(decision(l.decision().wireName())).append("</td></tr>");
             last = l.informationFraction();
             lastLook = l.look() == null ? lastLook : l.look();
             ended |= l.decision().endsPrimary();
@@ -628,6 +626,14 @@ public final class StatusPages {
         return (x > 0 ? "+" : x < 0 ? "\u2212" : "") + String.format(Locale.ROOT, "%.4f", Math.abs(x));
     }
 
+    /** " (lower, upper)" in muted type, or nothing when the look has no interval. */
+    private static String interval(Double lower, Double upper) {
+        if (lower == null && upper == null) {
+            return "";
+        }
+        return " <span class=\"muted\">(" + signed(lower) + ", " + signed(upper) + ")</span>";
+    }
+
     /** An information-fraction meter: a bar and the number (the number carries the meaning). */
     private static String meter(Double fraction) {
         if (fraction == null) {
@@ -718,7 +724,8 @@ public final class StatusPages {
             .facts{display:grid;grid-template-columns:repeat(auto-fill,minmax(160px,1fr));gap:10px 16px;margin:0 0 18px;
             padding:12px 18px;background:var(--card);border:1px solid var(--line);border-radius:6px}
             .facts dt{font-size:12px;text-transform:uppercase;letter-spacing:.06em;color:var(--muted)}
-            .facts dd{margin:0;font-variant-numeric:tabular-nums;font-size:14px;white-space:nowrap}
+            .facts dd{margin:0;font-variant-numeric:tabular-nums;font-size:14px;overflow-wrap:anywhere}
+            .facts .meter{white-space:nowrap}
             table{border-collapse:collapse;width:100%;font-size:14px}
             th{text-align:left;font-size:12px;text-transform:uppercase;letter-spacing:.05em;color:var(--muted);
             font-weight:600;border-bottom:1px solid var(--line);padding:6px 10px 6px 0;vertical-align:bottom}
@@ -728,7 +735,7 @@ public final class StatusPages {
             .time{white-space:nowrap;font-variant-numeric:tabular-nums;font-size:13px}
             tr.planned td{color:var(--muted);font-style:italic;background:repeating-linear-gradient(135deg,#fff 0 6px,
             #f7f5ef 6px 12px)}
-            .list td{padding-top:10px;padding-bottom:10px}.list a.exp{font-weight:650;font-size:15px}
+            .list-card{padding:6px 18px}.list td{padding-top:12px;padding-bottom:12px}.list a.exp{font-weight:650;font-size:15px}
             .st{display:inline-block;padding:1px 8px;border-radius:3px;font-weight:600;font-size:13px;white-space:nowrap;
             border:1px solid currentColor}
             .st-run{color:var(--run);background:var(--runbg)}.st-ok{color:var(--ok);background:var(--okbg)}
