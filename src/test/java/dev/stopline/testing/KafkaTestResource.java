@@ -9,6 +9,9 @@ import java.util.Map;
  * the broker outlives the Quarkus application and is closed with the JUnit run.
  */
 public final class KafkaTestResource implements QuarkusTestResourceLifecycleManager {
+    /** The API token of the test daemon (mutating calls need it once access control is on). */
+    public static final String API_TOKEN = "test-token-7f3a9c";
+
     @Override
     public Map<String, String> start() {
         return Map.of("kafka.bootstrap.servers", KafkaBrokerExtension.bootstrapServers(),

@@ -124,7 +124,7 @@ public class ExperimentsResource {
             }
             return Response.status(status).entity(r).build();
         } catch (PlanException e) {
-            return ApiError.response(Response.Status.fromStatusCode(422), "the plan is not valid", e.problems());
+            return ApiError.response(ApiError.UNPROCESSABLE, "the plan is not valid", e.problems());
         }
     }
 
@@ -141,7 +141,7 @@ public class ExperimentsResource {
         try {
             return Response.ok(plans.amend(id, body, format(contentType), actor(actor), reason)).build();
         } catch (PlanException e) {
-            return ApiError.response(Response.Status.fromStatusCode(422), "the amendment is not acceptable",
+            return ApiError.response(ApiError.UNPROCESSABLE, "the amendment is not acceptable",
                     e.problems());
         }
     }
