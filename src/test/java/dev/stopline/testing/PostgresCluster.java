@@ -42,8 +42,19 @@ public final class PostgresCluster implements BeforeAllCallback, AfterAllCallbac
     private static final String SUPERUSER = "postgres";
     private static final Duration COMMAND_TIMEOUT = Duration.ofSeconds(60);
 
+    private final Path bin;
     private Path dir;
     private int port;
+
+    /** A cluster from Debian's PostgreSQL 15 binaries in {@value #BIN}. */
+    public PostgresCluster() {
+        this(Path.of(BIN));
+    }
+
+    /** A cluster from the binaries in {@code bin} (another PostgreSQL version, or a test of the failure). */
+    public PostgresCluster(Path bin) {
+        this.bin = bin;
+    }
 
     @Override
     public void beforeAll(ExtensionContext context) {
@@ -58,8 +69,8 @@ public final class PostgresCluster implements BeforeAllCallback, AfterAllCallbac
     /** Creates, starts and prepares the cluster; fails with a clear message if it cannot. */
     public void start() {
         for (String tool : List.of("initdb", "pg_ctl")) {
-            if (!Files.isExecutable(Path.of(BIN, tool))) {
-                throw new IllegalStateException("PostgreSQL 15 is needed by this test and " + BIN + "/" + tool
+            if (!Files.isExecutable(bin.resolve(tool))) {
+                throw new IllegalStateException("PostgreSQL 15 is needed by this test and " + bin.resolve(tool)
                         + " is missing: install Debian's postgresql-15 package (apt-get install postgresql-15)");
             }
         }
@@ -69,10 +80,10 @@ public final class PostgresCluster implements BeforeAllCallback, AfterAllCallbac
                 run(List.of("chown", SUPERUSER + ":", dir.toString()), false);
             }
             port = FreePorts.pick();
-            run(List.of(BIN + "/initdb", "-D", data().toString(), "-A", "trust", "-U", SUPERUSER, "-E", "UTF8",
+            run(List.of(bin.resolve("initdb").toString(), "-D", data().toString(), "-A", "trust", "-U", SUPERUSER, "-E", "UTF8",
                     "--locale=C", "--no-sync"), true);
             // fsync off: a test cluster is thrown away, durability across power loss is not under test here
-            run(List.of(BIN + "/pg_ctl", "-D", data().toString(), "-l", dir.resolve("server.log").toString(),
+            run(List.of(bin.resolve("pg_ctl").toString(), "-D", data().toString(), "-l", dir.resolve("server.log").toString(),
                     "-o", "-p " + port + " -k " + dir + " -c listen_addresses=127.0.0.1 -c fsync=off",
                     "-w", "-t", "30", "start"), true);
             try (Connection c = DriverManager.getConnection(url("postgres"), SUPERUSER, "");
@@ -110,7 +121,7 @@ public final class PostgresCluster implements BeforeAllCallback, AfterAllCallbac
         }
         try {
             if (Files.exists(data().resolve("postmaster.pid"))) {
-                run(List.of(BIN + "/pg_ctl", "-D", data().toString(), "-m", "immediate", "-w", "-t", "10", "stop"),
+                run(List.of(bin.resolve("pg_ctl").toString(), "-D", data().toString(), "-m", "immediate", "-w", "-t", "10", "stop"),
                         true);
             }
         } catch (IOException | RuntimeException e) {
