@@ -20,15 +20,21 @@ import dev.stopline.testing.Counts;
 import dev.stopline.wire.SnapshotParser;
 import java.nio.charset.StandardCharsets;
 import java.sql.Connection;
+import java.sql.PreparedStatement;
 import java.sql.ResultSet;
 import java.sql.SQLException;
 import java.sql.Statement;
+import java.sql.Timestamp;
 import java.time.Duration;
 import java.time.Instant;
 import java.util.HashMap;
 import java.util.List;
 import java.util.Map;
 import java.util.Optional;
+import java.util.concurrent.ExecutorService;
+import java.util.concurrent.Executors;
+import java.util.concurrent.Future;
+import java.util.concurrent.TimeUnit;
 import javax.sql.DataSource;
 import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.BeforeAll;
@@ -47,6 +53,9 @@ abstract class StoreContractTest {
     /** Microsecond precision: what both engines keep of a TIMESTAMP WITH TIME ZONE (H2 and PostgreSQL docs). */
     private static final Instant T0 = Instant.parse("2027-03-01T10:00:00.123456Z");
     private static final List<String> CHANNELS = List.of("kafka", "webhook:https://hooks.example.test/stopline");
+
+    /** How long the other transaction holds its uncommitted row while ours runs into it. */
+    private static final Duration RACE_WINDOW = Duration.ofMillis(500);
 
     private DataSource ds;
     private Store store;
@@ -156,6 +165,41 @@ abstract class StoreContractTest {
         assertEquals(1, stored.size(), "stored once");
         assertEquals(T0, stored.get(0).createdAt(), "the first commit's row is kept");
         assertEquals(CHANNELS.size(), store.deliveries(first.get(0).id()).size(), "one outbox row per channel, once");
+    }
+
+    @Test
+    void sameAlertInsertedConcurrentlyByAnotherTransaction_isNotFresh_andTheRestOfTheEvaluationCommits()
+            throws Exception {
+        String id = "store-alert-race";
+        savePlan(id, "registered", T0);
+        Evaluation e = evaluate(id, Counts.proportion(id, 1, "orders", 1100, 110, 900, 90));
+        String alertId = e.alerts().get(0).id();
+        ExecutorService pool = Executors.newSingleThreadExecutor();
+        try (Connection other = ds.getConnection()) {
+            // another instance (during a rebalance) has inserted the same crossing and not committed yet
+            other.setAutoCommit(false);
+            try (PreparedStatement ps = other.prepareStatement("INSERT INTO alert (alert_id, experiment_id, kind, "
+                    + "metric, look_number, sequence, payload_json, created_at) VALUES (?, ?, ?, NULL, NULL, 1, ?, ?)")) {
+                ps.setString(1, alertId);
+                ps.setString(2, id);
+                ps.setString(3, AlertKind.SAMPLE_RATIO.wireName());
+                ps.setString(4, Json.write(e.alerts().get(0)));
+                ps.setTimestamp(5, Timestamp.from(T0));
+                ps.executeUpdate();
+            }
+            Future<List<Alert>> ours = pool.submit(() -> store.commitEvaluation(e, "sample-ratio-mismatch",
+                    new Store.Position(0, 7L), CHANNELS, T0.plusSeconds(1)));
+            Thread.sleep(RACE_WINDOW.toMillis()); // our insert now waits on the other transaction's key
+            other.commit();
+            assertEquals(List.of(), ours.get(30, TimeUnit.SECONDS),
+                    "the other transaction's alert is not fresh for us: it is not delivered twice");
+        } finally {
+            pool.shutdownNow();
+        }
+        assertEquals(new Store.Position(0, 7L), store.state(id).orElseThrow().position(),
+                "the evaluation itself committed");
+        assertEquals(1, store.alerts(id, 10).size());
+        assertEquals(List.of(), store.deliveries(alertId), "no outbox rows from the losing transaction");
     }
 
     @Test
