@@ -130,7 +130,7 @@ public class ExperimentsResource {
             }
             return Response.status(status).entity(r).build();
         } catch (PlanException e) {
-            return ApiError.response(Response.Status.fromStatusCode(422), "the plan is not valid", e.problems());
+            return ApiError.response(ApiError.UNPROCESSABLE, "the plan is not valid", e.problems());
         }
     }
 
@@ -146,7 +146,7 @@ public class ExperimentsResource {
         try {
             return Response.ok(plans.amend(id, body, format(contentType), tokens.name(), reason)).build();
         } catch (PlanException e) {
-            return ApiError.response(Response.Status.fromStatusCode(422), "the amendment is not acceptable",
+            return ApiError.response(ApiError.UNPROCESSABLE, "the amendment is not acceptable",
                     e.problems());
         }
     }

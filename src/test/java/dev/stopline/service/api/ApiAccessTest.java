@@ -87,6 +87,18 @@ class ApiAccessTest {
     }
 
     @Test
+    void anInvalidPlanWithTheToken_is422WithEveryProblemListed_notA500() {
+        String yaml = Counts.plan("access-invalid").replace("alpha: 0.05", "alpha: 1.5");
+        Response r = given().auth().oauth2(KafkaTestResource.API_TOKEN).contentType("application/yaml")
+                .body(yaml.getBytes(StandardCharsets.UTF_8)).post("/api/plans");
+        assertEquals(422, r.statusCode(), r.asString());
+        assertEquals("the plan is not valid", r.jsonPath().getString("error"));
+        List<String> paths = r.jsonPath().getList("problems.path");
+        assertEquals(true, paths.contains("primary.alpha"), "the problem names its path: " + r.asString());
+        assertEquals(true, store.plan("access-invalid").isEmpty(), "nothing stored");
+    }
+
+    @Test
     void reads_healthAndMetrics_stayOpenWithoutAToken() {
         given().get("/api/experiments").then().statusCode(200);
         given().get("/api/alerts").then().statusCode(200);
