@@ -57,6 +57,14 @@ class DaemonPlanLifecycleTest {
     }
 
     @Test
+    void oversizedRequest_isRefusedBeforeItIsRead() {
+        // 300 KiB against the 256 KiB request limit (quarkus.http.limits.max-body-size)
+        byte[] huge = new byte[300 * 1024];
+        java.util.Arrays.fill(huge, (byte) '#');
+        api().contentType("application/yaml").body(huge).when().post("/api/plans").then().statusCode(413);
+    }
+
+    @Test
     void lockedPlan_refusesAChange_andTakesItAsAnAuditedAmendmentKeepingTheAlphaSpent() {
         String id = "it-plan-lock";
         String plan = Counts.plan(id);
