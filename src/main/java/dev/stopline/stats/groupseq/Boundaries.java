@@ -180,8 +180,10 @@ public final class Boundaries {
         // b_K - a_K decreases in theta: a larger drift pushes the futility bounds up.
         // Every evaluation's bounds are kept, so the root's bounds need no extra pass (saves 1 of ~7).
         List<double[][]> evaluated = new ArrayList<>();
+        boolean[] warm = {false};
         DoubleUnaryOperator gap = theta -> {
-            pass(t, sides, effInc, betaInc, binding, theta, b, a, binding, inner);
+            pass(t, sides, effInc, betaInc, binding, theta, b, a, binding, warm[0], inner);
+            warm[0] = true;
             evaluated.add(new double[][] {{theta}, b.clone(), a.clone()});
             return b[k - 1] - a[k - 1];
         };
@@ -205,6 +207,12 @@ public final class Boundaries {
      */
     private static void pass(double[] t, int sides, double[] effInc, double[] betaInc, boolean binding, double theta,
                              double[] b, double[] a, boolean solveEfficacy, RootFinder rf) {
+        pass(t, sides, effInc, betaInc, binding, theta, b, a, solveEfficacy, false, rf);
+    }
+
+    /** {@link #pass}; with {@code warm}, the bounds already in b and a are the starting guesses. */
+    private static void pass(double[] t, int sides, double[] effInc, double[] betaInc, boolean binding, double theta,
+                             double[] b, double[] a, boolean solveEfficacy, boolean warm, RootFinder rf) {
         int k = t.length;
         boolean futility = betaInc != null;
         GridRecursion h0 = solveEfficacy ? new GridRecursion(0, GridRecursion.DEFAULT_R) : null;
@@ -212,13 +220,14 @@ public final class Boundaries {
         for (int j = 0; j < k; j++) {
             if (h0 != null) {
                 h0.beginLook(t[j]);
-                b[j] = efficacyBound(h0, effInc[j], rf);
+                b[j] = efficacyBound(h0, effInc[j], warm ? b[j] : Double.NaN, rf);
             }
             if (futility) {
                 h1.beginLook(t[j]);
                 double ceiling = j == k - 1 ? b[j] + 20 : b[j];
-                a[j] = sides == 1 ? futilityBelow(h1, betaInc[j], theta * Math.sqrt(t[j]), ceiling, rf)
-                        : futilityInner(h1, betaInc[j], theta * Math.sqrt(t[j]), ceiling, rf);
+                double guess = warm ? a[j] : Double.NaN;
+                a[j] = sides == 1 ? futilityBelow(h1, betaInc[j], theta * Math.sqrt(t[j]), ceiling, guess, rf)
+                        : futilityInner(h1, betaInc[j], theta * Math.sqrt(t[j]), ceiling, guess, rf);
             }
             if (j + 1 < k) {
                 if (h0 != null) {
@@ -231,33 +240,50 @@ public final class Boundaries {
         }
     }
 
-    private static double efficacyBound(GridRecursion h, double increment, RootFinder rf) {
+    /**
+     * Bound solves. Each is Newton on the log exit probability (derivative: the grid sum with the
+     * density in place of the tail, see {@link GridRecursion#slope()}), started from {@code warm}
+     * when it is finite (the same look's bound in the previous drift evaluation) and from a rough
+     * quantile otherwise.
+     */
+    private static double efficacyBound(GridRecursion h, double increment, double warm, RootFinder rf) {
         if (!(increment > NEGLIGIBLE)) {
             return Double.POSITIVE_INFINITY;
         }
         double logInc = Math.log(increment);
         // Under theta = 0, P(continue, Z_k > b) <= 1 - Phi(b): the root lies about at or below this guess.
-        double guess = NormalTail.roughUpperQuantile(Math.min(increment, 0.5));
-        return rf.solveDecreasing(x -> log(h.upperExit(x)) - logInc, guess, 0.5, -10, 40);
+        double guess = finite(warm) ? warm : NormalTail.roughUpperQuantile(Math.min(increment, 0.5));
+        double[] p = new double[1];
+        return rf.solveNewton(x -> log(p[0] = h.upperExit(x)) - logInc, () -> h.slope() / p[0], guess, 0.5, -10, 40);
     }
 
-    private static double futilityBelow(GridRecursion h, double increment, double mean, double ceiling, RootFinder rf) {
+    private static double futilityBelow(GridRecursion h, double increment, double mean, double ceiling, double warm,
+                                        RootFinder rf) {
         if (!(increment > NEGLIGIBLE)) {
             return Double.NEGATIVE_INFINITY;
         }
         double logInc = Math.log(increment);
         // P(continue, Z_k < a) <= Phi(a - mean): the root lies about at or above this guess.
-        double guess = mean - NormalTail.roughUpperQuantile(Math.min(increment, 0.5));
-        return rf.solveDecreasing(x -> logInc - log(h.lowerExit(x)), guess, 0.5, mean - 40, ceiling);
+        double guess = finite(warm) ? warm : mean - NormalTail.roughUpperQuantile(Math.min(increment, 0.5));
+        double[] p = new double[1];
+        return rf.solveNewton(x -> logInc - log(p[0] = h.lowerExit(x)), () -> -h.slope() / p[0], guess, 0.5,
+                mean - 40, ceiling);
     }
 
-    private static double futilityInner(GridRecursion h, double increment, double mean, double ceiling, RootFinder rf) {
+    private static double futilityInner(GridRecursion h, double increment, double mean, double ceiling, double warm,
+                                        RootFinder rf) {
         if (!(increment > NEGLIGIBLE)) {
             return 0;
         }
         double logInc = Math.log(increment);
-        double guess = Math.max(0, mean - NormalTail.roughUpperQuantile(Math.min(increment, 0.5)));
-        return rf.solveDecreasing(x -> logInc - log(h.innerExit(x)), guess, 0.5, 0, ceiling);
+        double guess = finite(warm) ? warm : Math.max(0, mean - NormalTail.roughUpperQuantile(Math.min(increment, 0.5)));
+        double[] p = new double[1];
+        return rf.solveNewton(x -> logInc - log(p[0] = h.innerExit(x)), () -> -h.slope() / p[0], guess, 0.5, 0,
+                ceiling);
+    }
+
+    private static boolean finite(double x) {
+        return x > Double.NEGATIVE_INFINITY && x < Double.POSITIVE_INFINITY;
     }
 
     private static double log(double p) {
