@@ -59,6 +59,16 @@ public final class Boundaries {
     static final double OUTER_X_TOL = 1e-9;
     static final double OUTER_F_TOL = 1e-9;
     static final int OUTER_MAX_EVALUATIONS = 60;
+    /**
+     * Drift solve with futility, coarse stage: grid parameter and tolerance (on theta and on the gap).
+     * The coarse root only seeds the fine stage, so its grid error (measured below 1e-4 in theta at
+     * r = 6) costs at most one secant step there.
+     */
+    static final int COARSE_R = 6;
+    static final double COARSE_TOL = 1e-6;
+    /** Fine stage: secant steps before falling back to Brent, and the interpolation criterion. */
+    static final int FINE_MAX_STEPS = 6;
+    static final double INTERPOLATION_TOL = 1e-10;
     /** Increments below this are treated as zero (their bound is at infinity). */
     private static final double NEGLIGIBLE = 1e-300;
     /** log of a zero probability, finite so that Brent's interpolation stays defined. */
@@ -177,27 +187,124 @@ public final class Boundaries {
         if (!binding) {
             pass(t, sides, effInc, null, false, 0, b, null, true, inner);
         }
-        // b_K - a_K decreases in theta: a larger drift pushes the futility bounds up.
-        // Every evaluation's bounds are kept, so the root's bounds need no extra pass (saves 1 of ~7).
-        List<double[][]> evaluated = new ArrayList<>();
-        boolean[] warm = {false};
-        DoubleUnaryOperator gap = theta -> {
-            pass(t, sides, effInc, betaInc, binding, theta, b, a, binding, warm[0], inner);
-            warm[0] = true;
-            evaluated.add(new double[][] {{theta}, b.clone(), a.clone()});
-            return b[k - 1] - a[k - 1];
-        };
         double fixed = Normal.upperQuantile(design.alpha() / sides) + Normal.upperQuantile(design.beta());
-        double theta = outer.solveDecreasing(gap, fixed * 1.05, 0.05 * fixed, 1e-3, 40);
-        double[][] atRoot = evaluated.stream().filter(e -> e[0][0] == theta).findFirst().orElse(null);
-        if (atRoot == null) {
-            gap.applyAsDouble(theta);
-        } else {
-            System.arraycopy(atRoot[1], 0, b, 0, k);
-            System.arraycopy(atRoot[2], 0, a, 0, k);
-        }
+        DriftGap coarse = new DriftGap(t, sides, effInc, betaInc, binding, COARSE_R, b.clone(), new double[k], inner);
+        RootFinder coarseOuter = new RootFinder(COARSE_TOL, COARSE_TOL, OUTER_MAX_EVALUATIONS);
+        double thetaCoarse = coarseOuter.solveDecreasing(coarse, fixed * 1.05, 0.05 * fixed, 1e-3, 40);
+        double[] start = binding ? coarse.b : b;
+        DriftGap fine = new DriftGap(t, sides, effInc, betaInc, binding, GridRecursion.DEFAULT_R, start.clone(),
+                coarse.a.clone(), inner);
+        fine.warm = true;
+        double theta = refine(fine, thetaCoarse, coarse.secantSlope(), fixed, outer);
+        System.arraycopy(fine.b, 0, b, 0, k);
+        System.arraycopy(fine.a, 0, a, 0, k);
         a[k - 1] = b[k - 1];
-        return new BoundarySet(design, lookBoundaries(design, t, b, a, cumAlpha), theta, t, b, a, counts(inner, outer));
+        BoundarySet.SolverCounts counts = new BoundarySet.SolverCounts(inner.totalEvaluations(),
+                inner.worstSolveEvaluations(), coarseOuter.totalEvaluations() + fine.evaluations, fine.evaluations);
+        return new BoundarySet(design, lookBoundaries(design, t, b, a, cumAlpha), theta, t, b, a, counts);
+    }
+
+    /**
+     * Fine stage of the drift solve: secant steps on the fine-grid gap from the coarse root, with the
+     * coarse secant slope for the first step. When the next secant root theta* lies so close to the
+     * last two evaluations theta_0, theta_1 that |theta* - theta_0| |theta* - theta_1| &lt;=
+     * {@link #INTERPOLATION_TOL}, the bounds at theta* are interpolated linearly between them instead of
+     * recomputed: the bounds are smooth in theta, so the interpolation error is that product times
+     * half their second derivative (the Lagrange remainder), below 1e-10 on the z scale. If the secant
+     * slope is not negative or the steps run out, Brent's method from the last point finishes the job.
+     * Leaves the bounds at the returned drift in {@code fine.b}, {@code fine.a}.
+     */
+    private static double refine(DriftGap fine, double theta, double slope, double fixed, RootFinder outer) {
+        double g = fine.applyAsDouble(theta);
+        for (int step = 0; Math.abs(g) > OUTER_F_TOL; step++) {
+            boolean two = fine.evaluations >= 2;
+            double s = two ? (g - fine.prevGap) / (theta - fine.prevTheta) : slope;
+            double next = theta - g / s;
+            if (!(s < 0) || !(next > 1e-3 && next < 40) || step >= FINE_MAX_STEPS) {
+                double root = outer.solveDecreasing(fine, theta, 0.05 * fixed, 1e-3, 40);
+                if (root != fine.lastTheta) {
+                    fine.applyAsDouble(root);
+                }
+                return root;
+            }
+            if (two && Math.abs(next - theta) * Math.abs(next - fine.prevTheta) <= INTERPOLATION_TOL) {
+                fine.interpolate((next - fine.prevTheta) / (theta - fine.prevTheta));
+                return next;
+            }
+            theta = next;
+            g = fine.applyAsDouble(theta);
+        }
+        return theta;
+    }
+
+    /**
+     * b_K - a_K as a function of the drift (decreasing: a larger drift pushes the futility bounds up),
+     * on grids of parameter r. Each evaluation is a full pass whose bound solves start from the bounds of
+     * the previous evaluation; the previous evaluation's bounds are kept for interpolation.
+     */
+    private static final class DriftGap implements DoubleUnaryOperator {
+        private final double[] t;
+        private final int sides;
+        private final double[] effInc;
+        private final double[] betaInc;
+        private final boolean binding;
+        private final int r;
+        private final RootFinder inner;
+        private final double[] b;
+        private final double[] a;
+        private double[] prevB;
+        private double[] prevA;
+        private boolean warm;
+        private int evaluations;
+        private double prevTheta = Double.NaN;
+        private double prevGap = Double.NaN;
+        private double lastTheta = Double.NaN;
+        private double lastGap = Double.NaN;
+
+        DriftGap(double[] t, int sides, double[] effInc, double[] betaInc, boolean binding, int r, double[] b,
+                 double[] a, RootFinder inner) {
+            this.t = t;
+            this.sides = sides;
+            this.effInc = effInc;
+            this.betaInc = betaInc;
+            this.binding = binding;
+            this.r = r;
+            this.b = b;
+            this.a = a;
+            this.inner = inner;
+        }
+
+        @Override
+        public double applyAsDouble(double theta) {
+            prevTheta = lastTheta;
+            prevGap = lastGap;
+            prevB = b.clone();
+            prevA = a.clone();
+            pass(t, sides, effInc, betaInc, binding, theta, b, a, binding, warm, r, inner);
+            warm = true;
+            evaluations++;
+            lastTheta = theta;
+            lastGap = b[t.length - 1] - a[t.length - 1];
+            return lastGap;
+        }
+
+        /** Slope of the secant through the last two evaluations; -1.5 (a typical value) if unusable. */
+        double secantSlope() {
+            double s = (lastGap - prevGap) / (lastTheta - prevTheta);
+            return s < -0.1 && s > -10 ? s : -1.5;
+        }
+
+        /** Replaces the bounds by prev + w (last - prev). */
+        void interpolate(double w) {
+            for (int j = 0; j < b.length; j++) {
+                b[j] = lerp(prevB[j], b[j], w);
+                a[j] = lerp(prevA[j], a[j], w);
+            }
+        }
+
+        private static double lerp(double x0, double x1, double w) {
+            return x0 == x1 ? x0 : x0 + w * (x1 - x0);
+        }
     }
 
     /**
@@ -207,16 +314,16 @@ public final class Boundaries {
      */
     private static void pass(double[] t, int sides, double[] effInc, double[] betaInc, boolean binding, double theta,
                              double[] b, double[] a, boolean solveEfficacy, RootFinder rf) {
-        pass(t, sides, effInc, betaInc, binding, theta, b, a, solveEfficacy, false, rf);
+        pass(t, sides, effInc, betaInc, binding, theta, b, a, solveEfficacy, false, GridRecursion.DEFAULT_R, rf);
     }
 
     /** {@link #pass}; with {@code warm}, the bounds already in b and a are the starting guesses. */
     private static void pass(double[] t, int sides, double[] effInc, double[] betaInc, boolean binding, double theta,
-                             double[] b, double[] a, boolean solveEfficacy, boolean warm, RootFinder rf) {
+                             double[] b, double[] a, boolean solveEfficacy, boolean warm, int r, RootFinder rf) {
         int k = t.length;
         boolean futility = betaInc != null;
-        GridRecursion h0 = solveEfficacy ? new GridRecursion(0, GridRecursion.DEFAULT_R) : null;
-        GridRecursion h1 = futility ? new GridRecursion(theta, GridRecursion.DEFAULT_R) : null;
+        GridRecursion h0 = solveEfficacy ? new GridRecursion(0, r) : null;
+        GridRecursion h1 = futility ? new GridRecursion(theta, r) : null;
         for (int j = 0; j < k; j++) {
             if (h0 != null) {
                 h0.beginLook(t[j]);
@@ -342,7 +449,7 @@ public final class Boundaries {
         }
         double theta = design.power() == design.power() ? driftForPower(design, t, b, outer) : Double.NaN;
         return new BoundarySet(design, lookBoundaries(design, t, b, null, cum), theta, t, b, null,
-                new BoundarySet.SolverCounts(0, 0, outer.totalEvaluations()));
+                new BoundarySet.SolverCounts(0, 0, outer.totalEvaluations(), 0));
     }
 
     /** The classical constant C (C_P or C_B) of a classical design: b_k / s_k. */
@@ -390,7 +497,7 @@ public final class Boundaries {
 
     private static BoundarySet.SolverCounts counts(RootFinder inner, RootFinder outer) {
         return new BoundarySet.SolverCounts(inner.totalEvaluations(), inner.worstSolveEvaluations(),
-                outer.totalEvaluations());
+                outer.totalEvaluations(), 0);
     }
 
     /**
