@@ -93,8 +93,9 @@ final class RootFinder {
      * bracket, for functions whose derivative comes almost free with the value ({@code slope} reports
      * f' at the point last evaluated). A Newton step that leaves the current bracket, or meets a
      * non-negative or non-finite slope, is replaced by bisection once the root is bracketed and by an
-     * outward step (doubling from {@code step}) before. Stops when |f| &lt;= fTol or a step is at
-     * most xTol (Newton's error after such a step is of order its square). Limits as in
+     * outward step (doubling from {@code step}) before. Stops when |f| &lt;= fTol, when a step is at
+     * most xTol, or when two Newton steps in a row, h' then h, predict an error after the last of
+     * about h^3 / h'^2 &lt;= xTol (quadratic convergence, e_{n+1} = K e_n^2 with K ~ h / h'^2). Limits as in
      * {@link #solveDecreasing}: returns {@code floor} when f(floor) &lt; 0 and {@code ceiling} when
      * f(ceiling) &gt; 0.
      *
@@ -111,6 +112,7 @@ final class RootFinder {
         boolean haveHi = false;
         double x = Math.min(ceiling, Math.max(floor, guess));
         double d = step;
+        double lastNewton = Double.NaN;
         while (true) {
             double y = eval(f, x);
             if (Math.abs(y) <= fTol) {
@@ -131,7 +133,8 @@ final class RootFinder {
             }
             double s = slope.getAsDouble();
             double next = x - y / s;
-            if (!(s < 0 && next > lo && next < hi)) {
+            boolean newton = s < 0 && next > lo && next < hi;
+            if (!newton) {
                 if (haveLo && haveHi) {
                     next = 0.5 * (lo + hi);
                 } else {
@@ -139,9 +142,13 @@ final class RootFinder {
                     d *= 2;
                 }
             }
-            if (Math.abs(next - x) <= xTol) {
+            double h = Math.abs(next - x);
+            // Two Newton steps in a row estimate the quadratic constant K ~ h / h_prev^2; the error left
+            // after this step is about K h^2 = h^3 / h_prev^2.
+            if (h <= xTol || (newton && h * h * h <= xTol * lastNewton * lastNewton)) {
                 return next;
             }
+            lastNewton = newton ? h : Double.NaN;
             x = next;
         }
     }
