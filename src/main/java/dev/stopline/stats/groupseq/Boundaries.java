@@ -54,16 +54,17 @@ import java.util.function.DoubleUnaryOperator;
  *       look's solve from that look's bound in the previous evaluation: 2 evaluations per solve
  *       instead of 6-9.</li>
  *   <li>The drift is first found on a coarse grid (r = {@link #COARSE_R}, about a seventh of the
- *       density work) to {@link #COARSE_TOL}; the fine stage starts there, takes its first secant
+ *       density work) to {@link #COARSE_TOL} by secant steps from the fixed-sample drift (4-7
+ *       passes, Brent as fallback); the fine stage starts there, takes its first secant
  *       step with the coarse slope, and stops after 2 full-grid passes on all 16 K = 10 designs we
  *       measured (interpolating the bounds linearly to the secant root when the Lagrange remainder
- *       bound is below ~1e-10, see {@code refine}).</li>
+ *       bound is below ~1e-10, see {@code secant}).</li>
  *   <li>H0 recursions over symmetric regions integrate half the rows (see GridRecursion).</li>
  * </ol>
  * Measured (thread CPU time, min of 60 runs after warm-up, old and new back to back at load average
- * 9-13 on the shared 2-core machine; all 16 designs in DEVELOPERS.md): K = 10 one-sided binding
- * Hwang-Shih-DeCani(-2) futility 2.09 -&gt; 0.87 ms; two-sided binding O'Brien-Fleming-type
- * 5.51 -&gt; 1.95 ms. Against plain bisection the bounds agree within 1e-10 (DriftSolveTest).
+ * 10-13 on the shared 2-core machine; all 16 designs in DEVELOPERS.md): K = 10 one-sided binding
+ * Hwang-Shih-DeCani(-2) futility 2.12 -&gt; 0.62 ms; two-sided binding O'Brien-Fleming-type
+ * 5.47 -&gt; 1.95 ms. Against plain bisection the bounds agree within 1e-10 (DriftSolveTest).
  *
  * <p>References: Lan KKG, DeMets DL (1983) Biometrika 70:659-663; Pocock SJ (1977) Biometrika
  * 64:191-199; O'Brien PC, Fleming TR (1979) Biometrics 35:549-556; Pampallona S, Tsiatis AA (1994)
@@ -87,9 +88,11 @@ public final class Boundaries {
      */
     static final int COARSE_R = 6;
     static final double COARSE_TOL = 1e-6;
-    /** Fine stage: secant steps before falling back to Brent, and the interpolation criterion. */
-    static final int FINE_MAX_STEPS = 6;
+    /** Secant steps per stage before falling back to Brent, and the fine stage's interpolation criterion. */
+    static final int FINE_MAX_STEPS = 8;
     static final double INTERPOLATION_TOL = 1e-10;
+    /** d(b_K - a_K) / d theta is -1.3 to -1.8 for the K=10 designs measured; the first secant step uses -1.5. */
+    static final double TYPICAL_SLOPE = -1.5;
     /** Increments below this are treated as zero (their bound is at infinity). */
     private static final double NEGLIGIBLE = 1e-300;
     /** log of a zero probability, finite so that Brent's interpolation stays defined. */
@@ -211,33 +214,36 @@ public final class Boundaries {
         double fixed = Normal.upperQuantile(design.alpha() / sides) + Normal.upperQuantile(design.beta());
         DriftGap coarse = new DriftGap(t, sides, effInc, betaInc, binding, COARSE_R, b.clone(), new double[k], inner);
         RootFinder coarseOuter = new RootFinder(COARSE_TOL, COARSE_TOL, OUTER_MAX_EVALUATIONS);
-        double thetaCoarse = coarseOuter.solveDecreasing(coarse, fixed * 1.05, 0.05 * fixed, 1e-3, 40);
+        double thetaCoarse = secant(coarse, fixed * 1.05, TYPICAL_SLOPE, COARSE_TOL, false, fixed, coarseOuter);
         double[] start = binding ? coarse.b : b;
         DriftGap fine = new DriftGap(t, sides, effInc, betaInc, binding, GridRecursion.DEFAULT_R, start.clone(),
                 coarse.a.clone(), inner);
         fine.warm = true;
-        double theta = refine(fine, thetaCoarse, coarse.secantSlope(), fixed, outer);
+        double theta = secant(fine, thetaCoarse, coarse.secantSlope(), OUTER_F_TOL, true, fixed, outer);
         System.arraycopy(fine.b, 0, b, 0, k);
         System.arraycopy(fine.a, 0, a, 0, k);
         a[k - 1] = b[k - 1];
         BoundarySet.SolverCounts counts = new BoundarySet.SolverCounts(inner.totalEvaluations(),
-                inner.worstSolveEvaluations(), coarseOuter.totalEvaluations() + fine.evaluations, fine.evaluations);
+                inner.worstSolveEvaluations(), coarse.evaluations + fine.evaluations, fine.evaluations);
         return new BoundarySet(design, lookBoundaries(design, t, b, a, cumAlpha), theta, t, b, a, counts);
     }
 
     /**
-     * Fine stage of the drift solve: secant steps on the fine-grid gap from the coarse root, with the
-     * coarse secant slope for the first step. When the next secant root theta* lies so close to the
+     * Secant steps on the gap from {@code theta}, the first with {@code slope}; used for the coarse
+     * stage (from the fixed-sample drift, first slope {@link #TYPICAL_SLOPE}) and the fine stage (from
+     * the coarse root, with the coarse secant slope), until |gap| &lt;= tol.
+     * Fine stage only ({@code interpolate}): When the next secant root theta* lies so close to the
      * last two evaluations theta_0, theta_1 that |theta* - theta_0| |theta* - theta_1| &lt;=
      * {@link #INTERPOLATION_TOL}, the bounds at theta* are interpolated linearly between them instead of
      * recomputed: the bounds are smooth in theta, so the interpolation error is that product times
      * half their second derivative (the Lagrange remainder), below 1e-10 on the z scale. If the secant
-     * slope is not negative or the steps run out, Brent's method from the last point finishes the job.
-     * Leaves the bounds at the returned drift in {@code fine.b}, {@code fine.a}.
+     * slope is not negative, a step leaves (1e-3, 40) or the steps run out, Brent's method from the
+     * last point finishes the job. Leaves the bounds at the returned drift in {@code fine.b}, {@code fine.a}.
      */
-    private static double refine(DriftGap fine, double theta, double slope, double fixed, RootFinder outer) {
+    private static double secant(DriftGap fine, double theta, double slope, double tol, boolean interpolate,
+                                 double fixed, RootFinder outer) {
         double g = fine.applyAsDouble(theta);
-        for (int step = 0; Math.abs(g) > OUTER_F_TOL; step++) {
+        for (int step = 0; Math.abs(g) > tol; step++) {
             boolean two = fine.evaluations >= 2;
             double s = two ? (g - fine.prevGap) / (theta - fine.prevTheta) : slope;
             double next = theta - g / s;
@@ -248,7 +254,7 @@ public final class Boundaries {
                 }
                 return root;
             }
-            if (two && Math.abs(next - theta) * Math.abs(next - fine.prevTheta) <= INTERPOLATION_TOL) {
+            if (interpolate && two && Math.abs(next - theta) * Math.abs(next - fine.prevTheta) <= INTERPOLATION_TOL) {
                 fine.interpolate((next - fine.prevTheta) / (theta - fine.prevTheta));
                 return next;
             }
@@ -312,7 +318,7 @@ public final class Boundaries {
         /** Slope of the secant through the last two evaluations; -1.5 (a typical value) if unusable. */
         double secantSlope() {
             double s = (lastGap - prevGap) / (lastTheta - prevTheta);
-            return s < -0.1 && s > -10 ? s : -1.5;
+            return s < -0.1 && s > -10 ? s : TYPICAL_SLOPE;
         }
 
         /** Replaces the bounds by prev + w (last - prev). */

@@ -50,9 +50,9 @@ class DriftSolveTest {
     })
     void driftSolve_K10Futility_needsTwoFullGridPassesAndBoundedBoundSolves(int sides, String family, boolean binding) {
         BoundarySet.SolverCounts c = Boundaries.compute(k10(sides, family, binding)).solverCounts();
-        // Measured on all 16 designs: 2 full-grid passes; 7-11 drift passes in all; at most 24
-        // evaluations in one bound solve (a cold inner-futility solve on the coarse grid) and 220-550
-        // bound evaluations in all. The previous code needed 6-10 full-grid passes and 460-1230.
+        // Measured on all 16 designs: 2 full-grid passes; 6-9 drift passes in all; at most 24
+        // evaluations in one bound solve (a cold inner-futility solve on the coarse grid) and 176-466
+        // bound evaluations in all. The previous code needed 6-10 full-grid passes and 459-1230.
         assertEquals(2, c.fineDriftEvaluations(), c.toString());
         assertTrue(c.outerEvaluations() <= 12, c.toString());
         assertTrue(c.worstBoundSolve() <= 25, c.toString());
