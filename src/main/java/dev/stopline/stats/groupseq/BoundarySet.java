@@ -16,8 +16,12 @@ public final class BoundarySet {
     private final double[] futility;
     private final SolverCounts counts;
 
-    /** Root-finder effort behind a computation (asserted by tests; also useful when profiling). */
-    record SolverCounts(int boundEvaluations, int worstBoundSolve, int outerEvaluations) {
+    /**
+     * Root-finder effort behind a computation (asserted by tests; also useful when profiling).
+     * {@code outerEvaluations} counts every pass of an outer solve; {@code fineDriftEvaluations} the
+     * passes of a futility design's drift solve on the full grid (the rest ran on the coarse grid).
+     */
+    record SolverCounts(int boundEvaluations, int worstBoundSolve, int outerEvaluations, int fineDriftEvaluations) {
     }
 
     BoundarySet(Design design, List<LookBoundary> looks, double drift, double[] timing, double[] efficacy,

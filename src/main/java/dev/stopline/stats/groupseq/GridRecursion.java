@@ -53,6 +53,7 @@ import dev.stopline.stats.StatsException;
 final class GridRecursion {
     /** J&amp;T recommend r = 16 for errors near 1e-6 in the boundaries; we use it by default. */
     static final int DEFAULT_R = 16;
+    private static final double INV_SQRT_2PI = 1 / Math.sqrt(2 * Math.PI);
     /**
      * Kernel terms below e^-60 (about 1e-26) of the kernel's peak are skipped. Each skipped term is at
      * most e^-60 times a weight, so the total absolute error in a sub-density is below 1e-26 times its
@@ -85,6 +86,8 @@ final class GridRecursion {
     private int mPrev;
     private double tPrev;
     private boolean started;
+    /** The previous look's grid and sub-density are mirror images about 0 (theta = 0, symmetric region). */
+    private boolean mirroredPrev;
 
     // Current look.
     private double t;
@@ -93,6 +96,8 @@ final class GridRecursion {
     private double[] shift;
     private double[] zCur;
     private double[] whCur;
+    /** Derivative of the last exit probability in its bound. */
+    private double slope;
 
     GridRecursion(double theta, int r) {
         this.theta = theta;
@@ -170,57 +175,119 @@ final class GridRecursion {
         }
     }
 
-    /** P(continue to this look and Z_k &gt; b). */
+    /** P(continue to this look and Z_k &gt; b). Also sets {@link #slope()} to its derivative in b. */
     double upperExit(double b) {
         if (b == Double.POSITIVE_INFINITY) {
+            slope = 0;
             return 0;
         }
         if (!started) {
-            return NormalTail.upper(b - theta * sqrtT);
+            double y = b - theta * sqrtT;
+            double ay = Math.abs(y);
+            double e = expHalfSquare(ay);
+            slope = -e * INV_SQRT_2PI;
+            return upperGivenExp(y, ay, e);
         }
         double bs = b * sqrtT;
         double inv = 1 / sqrtD;
         double sum = 0;
+        double density = 0;
         for (int i = 0; i < mPrev; i++) {
-            sum += whPrev[i] * NormalTail.upper((bs - shift[i]) * inv);
+            double y = (bs - shift[i]) * inv;
+            double ay = Math.abs(y);
+            double e = expHalfSquare(ay);
+            sum += whPrev[i] * upperGivenExp(y, ay, e);
+            density += whPrev[i] * e;
         }
+        slope = -density * INV_SQRT_2PI * sqrtT * inv;
         return sum;
     }
 
-    /** P(continue to this look and Z_k &lt; a). */
+    /** P(continue to this look and Z_k &lt; a). Also sets {@link #slope()} to its derivative in a. */
     double lowerExit(double a) {
         if (a == Double.NEGATIVE_INFINITY) {
+            slope = 0;
             return 0;
         }
         if (!started) {
-            return NormalTail.lower(a - theta * sqrtT);
+            double y = theta * sqrtT - a; // Phi(a - mu) = 1 - Phi(mu - a), bit for bit as NormalTail.lower
+            double ay = Math.abs(y);
+            double e = expHalfSquare(ay);
+            slope = e * INV_SQRT_2PI;
+            return upperGivenExp(y, ay, e);
         }
         double as = a * sqrtT;
         double inv = 1 / sqrtD;
         double sum = 0;
+        double density = 0;
         for (int i = 0; i < mPrev; i++) {
-            sum += whPrev[i] * NormalTail.lower((as - shift[i]) * inv);
+            double y = -((as - shift[i]) * inv);
+            double ay = Math.abs(y);
+            double e = expHalfSquare(ay);
+            sum += whPrev[i] * upperGivenExp(y, ay, e);
+            density += whPrev[i] * e;
         }
+        slope = density * INV_SQRT_2PI * sqrtT * inv;
         return sum;
     }
 
-    /** P(continue to this look and -a &lt; Z_k &lt; a), a &gt;= 0: the inner (two-sided) futility exit. */
+    /**
+     * P(continue to this look and -a &lt; Z_k &lt; a), a &gt;= 0: the inner (two-sided) futility exit.
+     * Also sets {@link #slope()} to its derivative in a.
+     */
     double innerExit(double a) {
         if (!(a > 0)) {
+            slope = 0;
             return 0;
         }
         if (!started) {
             double mu = theta * sqrtT;
-            return Math.max(0, 1 - NormalTail.upper(a - mu) - NormalTail.lower(-a - mu));
+            double y1 = a - mu;
+            double y2 = a + mu; // Phi(-a - mu) = 1 - Phi(a + mu)
+            double e1 = expHalfSquare(Math.abs(y1));
+            double e2 = expHalfSquare(Math.abs(y2));
+            slope = (e1 + e2) * INV_SQRT_2PI;
+            return Math.max(0, 1 - upperGivenExp(y1, Math.abs(y1), e1) - upperGivenExp(y2, Math.abs(y2), e2));
         }
         double as = a * sqrtT;
         double inv = 1 / sqrtD;
         double sum = 0;
+        double density = 0;
         for (int i = 0; i < mPrev; i++) {
-            double p = 1 - NormalTail.upper((as - shift[i]) * inv) - NormalTail.lower((-as - shift[i]) * inv);
-            sum += whPrev[i] * Math.max(0, p);
+            double y1 = (as - shift[i]) * inv;
+            double y2 = -((-as - shift[i]) * inv);
+            double a1 = Math.abs(y1);
+            double a2 = Math.abs(y2);
+            double e1 = expHalfSquare(a1);
+            double e2 = expHalfSquare(a2);
+            double p = 1 - upperGivenExp(y1, a1, e1) - upperGivenExp(y2, a2, e2);
+            if (p > 0) {
+                sum += whPrev[i] * p;
+                density += whPrev[i] * (e1 + e2);
+            }
         }
+        slope = density * INV_SQRT_2PI * sqrtT * inv;
         return sum;
+    }
+
+    /**
+     * Derivative of the exit probability last returned by {@link #upperExit}, {@link #lowerExit} or
+     * {@link #innerExit} with respect to its bound: the same sum with the normal density in place of
+     * the tail, from the exponential the tail already needs (Newton steps for the bound solves).
+     */
+    double slope() {
+        return slope;
+    }
+
+    /** exp(-y^2 / 2) for y = |x| &lt;= 37, else 0 (where the tail is 0 as well). */
+    private static double expHalfSquare(double ay) {
+        return ay > 37 ? 0 : Math.exp(-0.5 * ay * ay);
+    }
+
+    /** 1 - Phi(y), bit for bit as {@link NormalTail#upper}, given |y| and exp(-y^2 / 2). */
+    private static double upperGivenExp(double y, double ay, double e) {
+        double tail = ay > 37 ? 0 : NormalTail.tailGivenExp(ay, e);
+        return y >= 0 ? tail : 1 - tail;
     }
 
     /**
@@ -241,7 +308,14 @@ final class GridRecursion {
         if (lo2 < hi2) {
             m = addInterval(m, lo2, hi2);
         }
-        fillDensity(m);
+        boolean mirror = theta == 0 && (!started || mirroredPrev) && mirrorable(lo1, hi1, lo2, hi2, m);
+        fillDensity(mirror ? (m + 1) / 2 : m);
+        if (mirror) {
+            for (int j = 0; j < m / 2; j++) {
+                whCur[m - 1 - j] = whCur[j];
+            }
+        }
+        mirroredPrev = mirror;
         double[] z = zPrev;
         zPrev = zCur;
         zCur = z;
@@ -253,6 +327,35 @@ final class GridRecursion {
         started = true;
         uniformStep = 0.75 / r;
         findUniformRuns();
+    }
+
+    /**
+     * Under theta = 0 a region symmetric about 0 after a symmetric previous look gives a sub-density
+     * symmetric about 0: h_k(-z) = h_k(z). The grid is symmetric too up to rounding (the offsets are),
+     * so when every pair z_j, z_{m-1-j} cancels to 1e-12 the pairs are made exact mirrors and only the
+     * first half of the rows is computed; the weights of the second half are copies. This halves the
+     * density work of every two-sided efficacy recursion under H0 (measured: about 0.14 ms of a K=10
+     * two-sided binding futility pass); it changes sub-densities at the level of rounding.
+     */
+    private boolean mirrorable(double lo1, double hi1, double lo2, double hi2, int m) {
+        boolean symmetric = lo2 < hi2 ? lo1 == -hi2 && hi1 == -lo2 : lo1 == -hi1;
+        if (!symmetric) {
+            return false;
+        }
+        for (int j = 0; j < (m + 1) / 2; j++) {
+            if (!(Math.abs(zCur[j] + zCur[m - 1 - j]) <= 1e-12) || !(whCur[j] == whCur[m - 1 - j]
+                    || Math.abs(whCur[j] - whCur[m - 1 - j]) <= 1e-12 * Math.abs(whCur[j]))) {
+                return false;
+            }
+        }
+        for (int j = 0; j < m / 2; j++) {
+            zCur[m - 1 - j] = -zCur[j];
+            whCur[m - 1 - j] = whCur[j];
+        }
+        if (m % 2 == 1) {
+            zCur[m / 2] = 0;
+        }
+        return true;
     }
 
     private void tabulateGauss(double ch2) {

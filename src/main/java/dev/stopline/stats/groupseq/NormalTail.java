@@ -44,7 +44,14 @@ final class NormalTail {
         if (y > 37) {
             return 0;
         }
-        double e = Math.exp(-0.5 * y * y);
+        return tailGivenExp(y, Math.exp(-0.5 * y * y));
+    }
+
+    /**
+     * 1 - Phi(y) for 0 &lt;= y &lt;= 37 given {@code e = exp(-y^2 / 2)}: callers that also need the
+     * density phi(y) = e / sqrt(2 pi) (the slope of a tail) pay for one exponential, not two.
+     */
+    static double tailGivenExp(double y, double e) {
         if (y < 7.07106781186547) {
             double p = 3.52624965998911E-02;
             p = p * y + 0.700383064443688;

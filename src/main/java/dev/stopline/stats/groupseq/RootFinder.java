@@ -1,6 +1,7 @@
 package dev.stopline.stats.groupseq;
 
 import dev.stopline.stats.StatsException;
+import java.util.function.DoubleSupplier;
 import java.util.function.DoubleUnaryOperator;
 
 /**
@@ -84,6 +85,71 @@ final class RootFinder {
             x0 = x1;
             f0 = f1;
             d *= 2;
+        }
+    }
+
+    /**
+     * Root of a decreasing {@code f} in {@code [floor, ceiling]} by Newton's method safeguarded by a
+     * bracket, for functions whose derivative comes almost free with the value ({@code slope} reports
+     * f' at the point last evaluated). A Newton step that leaves the current bracket, or meets a
+     * non-negative or non-finite slope, is replaced by bisection once the root is bracketed and by an
+     * outward step (doubling from {@code step}) before. Stops when |f| &lt;= fTol, when a step is at
+     * most xTol, or when two Newton steps in a row, h' then h, predict an error after the last of
+     * about h^3 / h'^2 &lt;= xTol (quadratic convergence, e_{n+1} = K e_n^2 with K ~ h / h'^2). Limits as in
+     * {@link #solveDecreasing}: returns {@code floor} when f(floor) &lt; 0 and {@code ceiling} when
+     * f(ceiling) &gt; 0.
+     *
+     * <p>Why: the bound functions are log exit probabilities whose derivative is the same grid sum
+     * with the normal density in place of the tail, so a Newton step costs one evaluation; from a
+     * warm start it converges in 2-3 evaluations where bracketing plus Brent took 6-9.
+     */
+    double solveNewton(DoubleUnaryOperator f, DoubleSupplier slope, double guess, double step, double floor,
+                       double ceiling) {
+        evaluations = 0;
+        double lo = floor;
+        double hi = ceiling;
+        boolean haveLo = false;
+        boolean haveHi = false;
+        double x = Math.min(ceiling, Math.max(floor, guess));
+        double d = step;
+        double lastNewton = Double.NaN;
+        while (true) {
+            double y = eval(f, x);
+            if (Math.abs(y) <= fTol) {
+                return x;
+            }
+            if (y > 0) {
+                if (x >= ceiling) {
+                    return ceiling;
+                }
+                lo = x;
+                haveLo = true;
+            } else {
+                if (x <= floor) {
+                    return floor;
+                }
+                hi = x;
+                haveHi = true;
+            }
+            double s = slope.getAsDouble();
+            double next = x - y / s;
+            boolean newton = s < 0 && next > lo && next < hi;
+            if (!newton) {
+                if (haveLo && haveHi) {
+                    next = 0.5 * (lo + hi);
+                } else {
+                    next = y > 0 ? Math.min(ceiling, x + d) : Math.max(floor, x - d);
+                    d *= 2;
+                }
+            }
+            double h = Math.abs(next - x);
+            // Two Newton steps in a row estimate the quadratic constant K ~ h / h_prev^2; the error left
+            // after this step is about K h^2 = h^3 / h_prev^2.
+            if (h <= xTol || (newton && h * h * h <= xTol * lastNewton * lastNewton)) {
+                return next;
+            }
+            lastNewton = newton ? h : Double.NaN;
+            x = next;
         }
     }
 
