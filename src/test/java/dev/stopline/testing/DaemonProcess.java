@@ -36,10 +36,19 @@ public final class DaemonProcess implements AutoCloseable {
 
     /** Starts {@code serve} with the given options (a free {@code --port} is added) and waits until it is ready. */
     public static DaemonProcess serve(List<String> options, Path log) {
+        return serve(List.of("-Xmx512m"), options, log);
+    }
+
+    /**
+     * Starts {@code serve} in a JVM with the given options (heap size, system properties, a flight
+     * recording), a free {@code --port} added, and waits until it is ready.
+     */
+    public static DaemonProcess serve(List<String> jvmOptions, List<String> options, Path log) {
         String jar = System.getProperty("stopline.jar", "target/quarkus-app/quarkus-run.jar");
         int port = FreePorts.pick();
-        List<String> cmd = new ArrayList<>(List.of(Path.of(System.getProperty("java.home"), "bin", "java").toString(),
-                "-Xmx512m", "-jar", jar, "serve", "--port", Integer.toString(port)));
+        List<String> cmd = new ArrayList<>(List.of(Path.of(System.getProperty("java.home"), "bin", "java").toString()));
+        cmd.addAll(jvmOptions);
+        cmd.addAll(List.of("-jar", jar, "serve", "--port", Integer.toString(port)));
         cmd.addAll(options);
         try {
             Process p = new ProcessBuilder(cmd).redirectErrorStream(true)
