@@ -1,5 +1,7 @@
 package dev.stopline.bench;
 
+import com.fasterxml.jackson.databind.JsonNode;
+import com.fasterxml.jackson.databind.ObjectMapper;
 import dev.stopline.service.broker.EmbeddedKafka;
 import dev.stopline.testing.Counts;
 import dev.stopline.testing.DaemonProcess;
@@ -11,6 +13,7 @@ import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.time.Duration;
+import java.time.Instant;
 import java.util.ArrayList;
 import java.util.Arrays;
 import java.util.List;
@@ -22,6 +25,8 @@ import java.util.concurrent.BlockingQueue;
 import java.util.concurrent.LinkedBlockingQueue;
 import java.util.concurrent.TimeUnit;
 import java.util.concurrent.atomic.AtomicBoolean;
+import java.util.regex.Matcher;
+import java.util.regex.Pattern;
 import org.apache.kafka.clients.consumer.ConsumerRecord;
 import org.apache.kafka.clients.consumer.ConsumerRecords;
 import org.apache.kafka.clients.consumer.KafkaConsumer;
@@ -155,7 +160,7 @@ public final class IngestBenchmark {
         long warmStart = endOffset(servers, COUNTS);
         produceRounds(producer, s.experiments(), 1, s.warmupRounds(), cumulative, random);
         long warmTarget = s.experiments() * (long) s.warmupRounds();
-        awaitProcessed(daemon, warmTarget, Duration.ofSeconds(600), 50);
+        awaitProcessed(daemon, warmTarget, Duration.ofSeconds(600), 200);
 
         long start = endOffset(servers, COUNTS);
         long before = processed(daemon);
@@ -163,8 +168,11 @@ public final class IngestBenchmark {
         long t0 = System.nanoTime();
         produceRounds(producer, s.experiments(), s.warmupRounds() + 1, s.rounds(), cumulative, random);
         long produced = System.nanoTime() - t0;
-        awaitProcessed(daemon, before + m, Duration.ofSeconds(1200), 20);
+        // Records of one partition are handled in order, so the last experiment reaching the last round
+        // means every record before it is done; asking for it is far cheaper for the daemon than a scrape.
+        awaitSequence(daemon, tpId(s.experiments() - 1), s.warmupRounds() + s.rounds(), Duration.ofSeconds(1200));
         long elapsed = System.nanoTime() - t0;
+        awaitProcessed(daemon, before + m, Duration.ofSeconds(60), 200);
         long end = endOffset(servers, COUNTS);
         double daemonRate = m / seconds(elapsed);
         Map<String, Double> outcomes = snapshotOutcomes(daemon);
@@ -244,22 +252,28 @@ public final class IngestBenchmark {
         Thread reader = alertReader(servers, arrivals, stop);
         reader.start();
         long[] latencies = new long[s.alerts()];
+        long[] sentAt = new long[s.alerts()];
+        long[] arrivedAt = new long[s.alerts()];
         try (KafkaProducer<String, String> producer = producer(servers, 0)) {
             Thread.sleep(1000); // the reader is positioned at the end of the alert topic
             for (int i = 0; i < s.alertWarmup() + s.alerts(); i++) {
                 String id = latId(i);
                 String snapshot = Counts.proportion(id, 1, "orders", 6000, 600, 4000, 400);
+                long sentMillis = System.currentTimeMillis();
                 long sent = System.nanoTime();
                 producer.send(new ProducerRecord<>(COUNTS, id, snapshot));
                 long arrived = awaitAlert(arrivals, id, Duration.ofSeconds(30));
                 if (i >= s.alertWarmup()) {
                     latencies[i - s.alertWarmup()] = arrived - sent;
+                    sentAt[i - s.alertWarmup()] = sentMillis;
+                    arrivedAt[i - s.alertWarmup()] = sentMillis + (arrived - sent) / 1_000_000;
                 }
             }
         } finally {
             stop.set(true);
             reader.join(5000);
         }
+        report.add(breakdown(s, daemon, sentAt, arrivedAt));
         Arrays.sort(latencies);
         double p50 = millis(percentile(latencies, 0.50));
         double p99 = millis(percentile(latencies, 0.99));
@@ -267,6 +281,47 @@ public final class IngestBenchmark {
                         + " one at a time: p50 %.1f ms, p99 %.1f ms, max %.1f ms (target p99 < 50 ms: %s)",
                 s.alerts(), s.alertWarmup(), p50, p99, millis(latencies[latencies.length - 1]),
                 p99 < 50 ? "met" : "missed"));
+    }
+
+    /**
+     * Where the time goes, from the daemon's own wall-clock stamps (millisecond resolution, same machine
+     * clock): sent -> alert row committed ({@code createdAt}: consume, evaluate, transaction), committed ->
+     * Kafka channel delivered ({@code deliveredAt}: dispatcher wake-up, log channel, send acknowledged),
+     * delivered -> arrival in this JVM (the reader's fetch).
+     */
+    private static String breakdown(Settings s, DaemonProcess daemon, long[] sentAt, long[] arrivedAt) {
+        ObjectMapper json = new ObjectMapper();
+        long[] ingest = new long[sentAt.length];
+        long[] dispatch = new long[sentAt.length];
+        long[] fetch = new long[sentAt.length];
+        try {
+            for (int j = 0; j < sentAt.length; j++) {
+                JsonNode a = json.readTree(daemon.getBody("/api/alerts?experiment=" + latId(j + s.alertWarmup()))).get(0);
+                long created = Instant.parse(a.path("createdAt").asText()).toEpochMilli();
+                long delivered = created;
+                for (JsonNode d : a.path("deliveries")) {
+                    if ("kafka".equals(d.path("channel").asText())) {
+                        delivered = Instant.parse(d.path("deliveredAt").asText()).toEpochMilli();
+                    }
+                }
+                ingest[j] = (created - sentAt[j]) * 1_000_000;
+                dispatch[j] = (delivered - created) * 1_000_000;
+                fetch[j] = (arrivedAt[j] - delivered) * 1_000_000;
+            }
+        } catch (IOException | RuntimeException e) {
+            return "  (no breakdown: " + e + ")";
+        }
+        return String.format(Locale.ROOT, "  p50 / p99 of the parts (ms): sent -> alert committed %.0f / %.0f; "
+                        + "committed -> Kafka delivery acknowledged %.0f / %.0f; acknowledged -> arrival %.0f / %.0f",
+                millis(percentile(sorted(ingest), 0.5)), millis(percentile(sorted(ingest), 0.99)),
+                millis(percentile(sorted(dispatch), 0.5)), millis(percentile(sorted(dispatch), 0.99)),
+                millis(percentile(sorted(fetch), 0.5)), millis(percentile(sorted(fetch), 0.99)));
+    }
+
+    private static long[] sorted(long[] values) {
+        long[] copy = values.clone();
+        Arrays.sort(copy);
+        return copy;
     }
 
     private record Arrival(String key, long nanos) {
@@ -416,6 +471,23 @@ public final class IngestBenchmark {
                 throw new IllegalStateException("daemon processed " + seen + " of " + target + " within " + max);
             }
             Thread.sleep(pollMillis);
+        }
+    }
+
+    /** Waits (polling every 10 ms) until the experiment's last evaluated sequence reaches {@code sequence}. */
+    private static void awaitSequence(DaemonProcess daemon, String experiment, long sequence, Duration max)
+            throws InterruptedException {
+        Pattern last = Pattern.compile("\"lastSequence\"\\s*:\\s*(\\d+)");
+        long deadline = System.nanoTime() + max.toNanos();
+        while (true) {
+            Matcher m = last.matcher(daemon.getBody("/api/experiments/" + experiment));
+            if (m.find() && Long.parseLong(m.group(1)) >= sequence) {
+                return;
+            }
+            if (System.nanoTime() > deadline) {
+                throw new IllegalStateException(experiment + " did not reach sequence " + sequence + " within " + max);
+            }
+            Thread.sleep(10);
         }
     }
 
