@@ -54,7 +54,8 @@ public final class DaemonProcess implements AutoCloseable {
             Process p = new ProcessBuilder(cmd).redirectErrorStream(true)
                     .redirectOutput(ProcessBuilder.Redirect.appendTo(log.toFile())).start();
             DaemonProcess d = new DaemonProcess(p, port);
-            d.awaitReady(Duration.ofSeconds(180));
+            // 180 s unless -Dstopline.daemon.ready-seconds says otherwise (10,000 plans on a busy machine)
+            d.awaitReady(Duration.ofSeconds(Long.getLong("stopline.daemon.ready-seconds", 180)));
             return d;
         } catch (IOException e) {
             throw new UncheckedIOException(e);
