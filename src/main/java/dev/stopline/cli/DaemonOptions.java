@@ -61,6 +61,7 @@ public final class DaemonOptions {
         }
         System.setProperty("stopline.db.url", url);
         System.setProperty("stopline.plans-dir", plansDir.toString());
+        System.setProperty("stopline.data-dir", dataDir.toString());
         System.setProperty("quarkus.http.port", Integer.toString(port));
         BrokerStopper stopper = new BrokerStopper(broker);
         Runtime.getRuntime().addShutdownHook(new Thread(stopper::afterDaemon, "stopline-broker-stop"));

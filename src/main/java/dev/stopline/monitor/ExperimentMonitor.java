@@ -199,7 +199,8 @@ public final class ExperimentMonitor {
 
     // ------------------------------------------------------------------ sample ratio
 
-    private SampleRatioRecord checkSampleRatio(Snapshot snapshot) {
+    /** The sample-ratio check of a snapshot (also used by the status page for the last snapshot). */
+    public SampleRatioRecord checkSampleRatio(Snapshot snapshot) {
         Map<String, Long> units = new LinkedHashMap<>();
         long[] observed = new long[plan.allocation().size()];
         int i = 0;
@@ -314,7 +315,7 @@ public final class ExperimentMonitor {
      */
     private LookBoundary boundaryAt(double[] fractions) {
         if (plan.primary().boundary() == null) {
-            return Boundaries.next(design, fractions);
+            return Boundaries.next(planned, fractions);
         }
         double t = fractions[fractions.length - 1];
         int reached = 0;

@@ -39,7 +39,7 @@ class DaemonKafkaTest {
     Store store;
 
     private static void register(String experiment) {
-        given().contentType("application/yaml").body(Counts.plan(experiment).getBytes(StandardCharsets.UTF_8)).when().post("/api/plans")
+        given().auth().oauth2(KafkaTestResource.API_TOKEN).contentType("application/yaml").body(Counts.plan(experiment).getBytes(StandardCharsets.UTF_8)).when().post("/api/plans")
                 .then().statusCode(201);
     }
 

@@ -97,7 +97,7 @@ class DaemonRestartIT {
         p.put("value.serializer", StringSerializer.class.getName());
         p.put("acks", "all");
         try (KafkaProducer<String, String> producer = new KafkaProducer<>(p)) {
-            DaemonProcess first = DaemonProcess.start(broker.bootstrapServers(), jdbc, dir.resolve("plans"), log);
+            DaemonProcess first = DaemonProcess.start(broker.bootstrapServers(), jdbc, dir.resolve("plans"), log, "--data-dir", dir.toString());
             try {
                 for (int k = 0; k < SNAPSHOTS; k++) {
                     producer.send(new ProducerRecord<>("stopline.counts", ID, stream.get(k))).get();
@@ -111,7 +111,7 @@ class DaemonRestartIT {
                 first.close();
             }
         }
-        try (DaemonProcess second = DaemonProcess.start(broker.bootstrapServers(), jdbc, dir.resolve("plans"), log)) {
+        try (DaemonProcess second = DaemonProcess.start(broker.bootstrapServers(), jdbc, dir.resolve("plans"), log, "--data-dir", dir.toString())) {
             awaitSequence(second, json, SNAPSHOTS, Duration.ofSeconds(120));
 
             List<Long> primary = new ArrayList<>();

@@ -1,5 +1,6 @@
 package dev.stopline.service.alert;
 
+import dev.stopline.monitor.AlertKind;
 import com.fasterxml.jackson.core.type.TypeReference;
 import dev.stopline.monitor.Alert;
 import dev.stopline.service.store.Json;
@@ -196,7 +197,7 @@ public class AlertDispatcher {
 
     static AlertEnvelope envelope(Alert alert) {
         Map<String, Object> payload = Json.MAPPER.convertValue(alert, new TypeReference<Map<String, Object>>() { });
-        return new AlertEnvelope(alert.id(), alert.experiment(), AlertEnvelope.Kind.ofCode(alert.kind().wireName()),
+        return new AlertEnvelope(alert.id(), alert.experiment(), alert.kind(),
                 alert.observedAt(), payload);
     }
 }

@@ -1,5 +1,7 @@
 package dev.stopline.service.alert;
 
+import dev.stopline.monitor.AlertKind;
+
 import java.nio.charset.StandardCharsets;
 import java.time.Instant;
 import java.util.Collections;
@@ -19,41 +21,7 @@ import java.util.UUID;
  * @param payload the decision's details, rendered as the JSON {@code data}; copied into an unmodifiable
  *     map that keeps insertion order (nested values are the caller's and should be immutable too)
  */
-public record AlertEnvelope(String id, String experimentId, Kind kind, Instant time, Map<String, Object> payload) {
-
-    /** What an alert says; {@link #code()} is the wire name (lower case, words joined by {@code -}). */
-    public enum Kind {
-        /** An efficacy boundary was crossed: the treatment differs from control. */
-        EFFICACY("efficacy"),
-        /** A futility boundary was crossed: the experiment is unlikely to show the effect it was sized for. */
-        FUTILITY("futility"),
-        /** A guardrail metric moved the wrong way beyond its limit. */
-        GUARDRAIL("guardrail"),
-        /** The observed split of units differs from the planned split (sample-ratio mismatch). */
-        SAMPLE_RATIO("sample-ratio");
-
-        private final String code;
-
-        Kind(String code) {
-            this.code = code;
-        }
-
-        /** The wire name, e.g. {@code sample-ratio}. */
-        public String code() {
-            return code;
-        }
-
-        /** The kind whose {@link #code()} is {@code code}. */
-        public static Kind ofCode(String code) {
-            for (Kind k : values()) {
-                if (k.code.equals(code)) {
-                    return k;
-                }
-            }
-            throw new IllegalArgumentException("alert kind '" + code + "' is not one of efficacy, futility,"
-                    + " guardrail, sample-ratio");
-        }
-    }
+public record AlertEnvelope(String id, String experimentId, AlertKind kind, Instant time, Map<String, Object> payload) {
 
     /** Validates every field (none may be null, ids not blank) and copies the payload. */
     public AlertEnvelope {
@@ -70,10 +38,10 @@ public record AlertEnvelope(String id, String experimentId, Kind kind, Instant t
      * (e.g. the look number, or the guardrail metric and look): the same decision always gets the same id,
      * in any process, so duplicates can be recognised downstream.
      */
-    public static String stableId(String experimentId, Kind kind, String occasion) {
+    public static String stableId(String experimentId, AlertKind kind, String occasion) {
         requireText("experiment id", experimentId);
         requireText("occasion", occasion);
-        String name = "stopline-alert\n" + experimentId + "\n" + kind.code() + "\n" + occasion;
+        String name = "stopline-alert\n" + experimentId + "\n" + kind.wireName() + "\n" + occasion;
         return UUID.nameUUIDFromBytes(name.getBytes(StandardCharsets.UTF_8)).toString();
     }
 

@@ -1,5 +1,6 @@
 package dev.stopline.service.alert;
 
+import dev.stopline.monitor.AlertKind;
 import java.io.UncheckedIOException;
 import java.net.URI;
 import java.net.URISyntaxException;
@@ -72,8 +73,8 @@ public final class CloudEvents {
     }
 
     /** {@code dev.stopline.alert.<code>}, the code kept as is (so {@code sample-ratio} keeps its hyphen). */
-    public static String type(AlertEnvelope.Kind kind) {
-        return TYPE_PREFIX + kind.code();
+    public static String type(AlertKind kind) {
+        return TYPE_PREFIX + kind.wireName();
     }
 
     /** The event as a JSON tree (attribute order: required first, then optional, then data). */

@@ -36,7 +36,7 @@ public final class ExperimentView {
                                 double cumulativeAlphaSpent) {
     }
 
-    static Summary summary(Store.StoredPlan plan, ExperimentMonitor monitor, Store.StoredState stored,
+    public static Summary summary(Store.StoredPlan plan, ExperimentMonitor monitor, Store.StoredState stored,
                            List<LookRecord> looks, long openAlerts) {
         MonitorState s = stored == null ? null : stored.state();
         Snapshot last = s == null ? null : s.lastSnapshot();
@@ -64,7 +64,7 @@ public final class ExperimentView {
                 stored == null ? null : stored.updatedAt());
     }
 
-    static Detail detail(Summary summary, Store.StoredPlan plan, ExperimentMonitor monitor, Store.StoredState stored,
+    public static Detail detail(Summary summary, Store.StoredPlan plan, ExperimentMonitor monitor, Store.StoredState stored,
                          List<LookRecord> looks) {
         List<BoundaryPoint> points = new ArrayList<>();
         if (monitor != null && monitor.plannedBoundaries() != null) {

@@ -25,7 +25,10 @@ import java.util.List;
 import java.util.Map;
 import org.eclipse.microprofile.openapi.annotations.Operation;
 
-/** The REST API: experiments, their looks, alerts, and plan registration. */
+/**
+ * The REST API: experiments, their looks, alerts, and plan registration. The POST calls need the API's
+ * bearer token ({@link BearerTokenFilter}); the audit trail records the token's name as the actor.
+ */
 @Path("/api")
 @Produces(MediaType.APPLICATION_JSON)
 public class ExperimentsResource {
@@ -35,6 +38,9 @@ public class ExperimentsResource {
     PlanRegistry plans;
     @Inject
     Clock clock;
+    /** Mutating calls reach this class only with the token ({@link BearerTokenFilter}): they act as its name. */
+    @Inject
+    ApiTokens tokens;
 
     @GET
     @Path("/experiments")
@@ -96,10 +102,11 @@ public class ExperimentsResource {
     }
 
     @POST
-    @Path("/alerts/{id}/acknowledge")
-    @Operation(summary = "Acknowledge an alert (the first acknowledgement is kept)")
-    public Response acknowledge(@PathParam("id") String id, @HeaderParam("X-Stopline-Actor") String actor) {
-        if (!store.acknowledge(id, actor == null || actor.isBlank() ? "api" : actor, clock.instant())) {
+    @Path("/alerts/{id: .+}/acknowledge")
+    @Operation(summary = "Acknowledge an alert (the first acknowledgement is kept); the id contains slashes "
+            + "(experiment/kind/metric/look) and is given as it is")
+    public Response acknowledge(@PathParam("id") String id) {
+        if (!store.acknowledge(id, tokens.name(), clock.instant())) {
             return ApiError.response(Response.Status.NOT_FOUND, "no alert " + id, null);
         }
         return Response.ok(store.alert(id).orElseThrow()).build();
@@ -110,10 +117,9 @@ public class ExperimentsResource {
     @Consumes({"application/yaml", "application/x-yaml", "text/yaml", MediaType.APPLICATION_JSON, MediaType.TEXT_PLAIN})
     @Operation(summary = "Register a stopping plan (YAML or JSON); refused with every problem listed if invalid, "
             + "409 if the plan is locked")
-    public Response register(byte[] body, @HeaderParam(HttpHeaders.CONTENT_TYPE) String contentType,
-                             @HeaderParam("X-Stopline-Actor") String actor) {
+    public Response register(byte[] body, @HeaderParam(HttpHeaders.CONTENT_TYPE) String contentType) {
         try {
-            PlanRegistry.Result r = plans.register(body, format(contentType), actor(actor));
+            PlanRegistry.Result r = plans.register(body, format(contentType), tokens.name());
             Response.Status status = switch (r.outcome()) {
                 case CREATED -> Response.Status.CREATED;
                 case LOCKED -> Response.Status.CONFLICT;
@@ -124,7 +130,7 @@ public class ExperimentsResource {
             }
             return Response.status(status).entity(r).build();
         } catch (PlanException e) {
-            return ApiError.response(Response.Status.fromStatusCode(422), "the plan is not valid", e.problems());
+            return ApiError.response(ApiError.UNPROCESSABLE, "the plan is not valid", e.problems());
         }
     }
 
@@ -133,15 +139,14 @@ public class ExperimentsResource {
     @Consumes({"application/yaml", "application/x-yaml", "text/yaml", MediaType.APPLICATION_JSON, MediaType.TEXT_PLAIN})
     @Operation(summary = "Amend a locked plan; keeps the alpha already spent and is recorded in the audit trail")
     public Response amend(@PathParam("id") String id, @QueryParam("reason") String reason, byte[] body,
-                          @HeaderParam(HttpHeaders.CONTENT_TYPE) String contentType,
-                          @HeaderParam("X-Stopline-Actor") String actor) {
+                          @HeaderParam(HttpHeaders.CONTENT_TYPE) String contentType) {
         if (store.plan(id).isEmpty()) {
             return notFound(id);
         }
         try {
-            return Response.ok(plans.amend(id, body, format(contentType), actor(actor), reason)).build();
+            return Response.ok(plans.amend(id, body, format(contentType), tokens.name(), reason)).build();
         } catch (PlanException e) {
-            return ApiError.response(Response.Status.fromStatusCode(422), "the amendment is not acceptable",
+            return ApiError.response(ApiError.UNPROCESSABLE, "the amendment is not acceptable",
                     e.problems());
         }
     }
@@ -166,9 +171,5 @@ public class ExperimentsResource {
         }
         return contentType != null && contentType.toLowerCase(java.util.Locale.ROOT).contains("yaml")
                 ? PlanParser.Format.YAML : PlanParser.Format.AUTO;
-    }
-
-    private static String actor(String header) {
-        return header == null || header.isBlank() ? "api" : header.strip();
     }
 }

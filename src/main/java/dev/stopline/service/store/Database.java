@@ -43,6 +43,10 @@ public class Database {
         p.put(AgroalPropertiesReader.MAX_SIZE, Integer.toString(max));
         p.put(AgroalPropertiesReader.ACQUISITION_TIMEOUT_S, "10");
         p.put(AgroalPropertiesReader.VALIDATION_TIMEOUT_S, "30");
+        // after a database outage, pooled connections are dead: check each one before it is handed out,
+        // so that the ingest's retry loop gets a fresh connection once the database is back
+        p.put(AgroalPropertiesReader.CONNECTION_VALIDATOR, "default");
+        p.put(AgroalPropertiesReader.VALIDATE_ON_BORROW, "true");
         try {
             AgroalDataSource ds = AgroalDataSource.from(new AgroalPropertiesReader().readProperties(p).get());
             Flyway.configure(Database.class.getClassLoader()).dataSource(ds).locations("classpath:db/migration")

@@ -10,6 +10,7 @@ import java.sql.Connection;
 import java.sql.PreparedStatement;
 import java.sql.ResultSet;
 import java.sql.SQLException;
+import java.sql.Savepoint;
 import java.sql.Timestamp;
 import java.time.Instant;
 import java.util.ArrayList;
@@ -305,6 +306,11 @@ public class Store {
                 }
             }
         }
+        // The check above does not see a row another transaction has inserted but not yet committed (a
+        // second instance during a rebalance): then the insert waits for it and fails on the primary key.
+        // PostgreSQL aborts the whole transaction on any error, so the insert runs under a savepoint and a
+        // duplicate only undoes itself: the alert exists, it is not fresh, and the rest of the evaluation commits.
+        Savepoint before = c.setSavepoint();
         try (PreparedStatement ps = c.prepareStatement("INSERT INTO alert (alert_id, experiment_id, kind, metric, "
                 + "look_number, sequence, payload_json, created_at) VALUES (?, ?, ?, ?, ?, ?, ?, ?)")) {
             ps.setString(1, a.id());
@@ -316,9 +322,19 @@ public class Store {
             ps.setString(7, Json.write(a));
             ps.setTimestamp(8, Timestamp.from(now));
             ps.executeUpdate();
+            c.releaseSavepoint(before);
             return true;
+        } catch (SQLException e) {
+            if (UNIQUE_VIOLATION.equals(e.getSQLState())) {
+                c.rollback(before);
+                return false;
+            }
+            throw e;
         }
     }
+
+    /** SQLSTATE of a unique or primary-key violation, the same in H2 and PostgreSQL (SQL standard class 23). */
+    private static final String UNIQUE_VIOLATION = "23505";
 
     private static void insertOutbox(Connection c, String alertId, String channel, Instant now) throws SQLException {
         try (PreparedStatement ps = c.prepareStatement("INSERT INTO outbox (alert_id, channel, status, attempts, "

@@ -87,8 +87,24 @@ public final class Boundaries {
         return all.get(all.size() - 1);
     }
 
+    /**
+     * {@link #next(Design, double[])} for a design whose planned boundaries are already computed: the
+     * futility part reuses the planned drift instead of solving for it again (the drift is a property of
+     * the planned design, not of the looks reached). The daemon calls this at every look.
+     */
+    public static LookBoundary next(BoundarySet planned, double[] fractionsSoFar) {
+        Objects.requireNonNull(planned, "planned");
+        List<LookBoundary> all = flexible(planned.design(), fractionsSoFar, planned::drift);
+        return all.get(all.size() - 1);
+    }
+
     /** All boundaries recomputed at the fractions actually reached; see {@link #next}. */
     public static List<LookBoundary> flexible(Design design, double[] fractionsSoFar) {
+        return flexible(design, fractionsSoFar, () -> compute(design).drift());
+    }
+
+    private static List<LookBoundary> flexible(Design design, double[] fractionsSoFar,
+                                               java.util.function.DoubleSupplier plannedDrift) {
         Objects.requireNonNull(design, "design");
         design.checkConsistent();
         if (!design.isSpending()) {
@@ -106,7 +122,7 @@ public final class Boundaries {
         if (!design.hasFutility()) {
             pass(t, sides, effInc, null, false, 0, b, null, true, inner);
         } else {
-            double theta = compute(design).drift();
+            double theta = plannedDrift.getAsDouble();
             a = new double[k];
             double[] betaInc = increments(design.futilitySpending(), t);
             boolean binding = design.bindingFutility();

@@ -1,5 +1,6 @@
 package dev.stopline.service.alert;
 
+import dev.stopline.monitor.AlertKind;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 
 import java.nio.charset.StandardCharsets;
@@ -36,7 +37,7 @@ class CloudEventsKafkaTest {
     @Test
     void structuredEvent_roundTripsThroughARealBroker_keyedByExperiment(EmbeddedKafka kafka) throws Exception {
         String topic = "stopline.alerts.test-" + UUID.randomUUID();
-        AlertEnvelope.Kind k = AlertEnvelope.Kind.SAMPLE_RATIO;
+        AlertKind k = AlertKind.SAMPLE_RATIO;
         AlertEnvelope a = new AlertEnvelope(AlertEnvelope.stableId("gift-wrap-upsell", k, "look-2"),
                 "gift-wrap-upsell", k, Instant.parse("2026-11-30T12:00:00Z"), Map.of("pValue", 1.0e-7));
         CloudEvents events = CloudEvents.forInstance("bookshop-eu-1");

@@ -1,5 +1,6 @@
 package dev.stopline.service.alert;
 
+import dev.stopline.monitor.AlertKind;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertNotEquals;
@@ -25,7 +26,7 @@ class CloudEventsTest {
     private static final Instant T = Instant.parse("2026-11-30T09:15:30.250Z");
     private final CloudEvents events = CloudEvents.forInstance("bookshop-eu-1");
 
-    private static AlertEnvelope alert(AlertEnvelope.Kind kind) {
+    private static AlertEnvelope alert(AlertKind kind) {
         Map<String, Object> payload = new LinkedHashMap<>();
         payload.put("look", 3);
         payload.put("zStatistic", 2.91);
@@ -37,7 +38,7 @@ class CloudEventsTest {
     @Test
     void event_hasEveryRequiredAttribute_asNonEmptyString() throws Exception {
         // CloudEvents 1.0 core spec: id, source, specversion, type are REQUIRED, non-empty strings
-        JsonNode e = parse(events.toBytes(alert(AlertEnvelope.Kind.EFFICACY)));
+        JsonNode e = parse(events.toBytes(alert(AlertKind.EFFICACY)));
         for (String name : List.of("id", "source", "specversion", "type")) {
             assertTrue(e.hasNonNull(name) && e.get(name).isTextual() && !e.get(name).asText().isEmpty(),
                     "required attribute " + name + " in " + e);
@@ -48,7 +49,7 @@ class CloudEventsTest {
     @Test
     void attributeNames_areLowerCaseAlphanumeric_atMost20Characters() throws Exception {
         // CloudEvents 1.0 "Attribute Naming Convention": [a-z0-9], SHOULD be at most 20 characters
-        JsonNode e = parse(events.toBytes(alert(AlertEnvelope.Kind.GUARDRAIL)));
+        JsonNode e = parse(events.toBytes(alert(AlertKind.GUARDRAIL)));
         for (Iterator<String> it = e.fieldNames(); it.hasNext();) {
             String name = it.next();
             assertTrue(name.matches("[a-z0-9]{1,20}"), "attribute name '" + name + "'");
@@ -57,7 +58,7 @@ class CloudEventsTest {
 
     @Test
     void source_isTheInstanceUrn_andAUri() throws Exception {
-        JsonNode e = parse(events.toBytes(alert(AlertEnvelope.Kind.FUTILITY)));
+        JsonNode e = parse(events.toBytes(alert(AlertKind.FUTILITY)));
         assertEquals("urn:stopline:daemon:bookshop-eu-1", e.get("source").asText());
         URI u = new URI(e.get("source").asText()); // spec: URI-reference
         assertEquals("urn", u.getScheme());
@@ -66,14 +67,14 @@ class CloudEventsTest {
     @ParameterizedTest
     @CsvSource({"EFFICACY, dev.stopline.alert.efficacy", "FUTILITY, dev.stopline.alert.futility",
         "GUARDRAIL, dev.stopline.alert.guardrail", "SAMPLE_RATIO, dev.stopline.alert.sample-ratio"})
-    void type_isPrefixPlusKindCode_keepingTheHyphen(AlertEnvelope.Kind kind, String expected) throws Exception {
+    void type_isPrefixPlusKindCode_keepingTheHyphen(AlertKind kind, String expected) throws Exception {
         assertEquals(expected, parse(events.toBytes(alert(kind))).get("type").asText());
-        assertEquals(kind, AlertEnvelope.Kind.ofCode(kind.code()));
+        assertEquals(kind, AlertKind.fromWireName(kind.wireName()));
     }
 
     @Test
     void optionalAttributes_subjectTimeContentTypeAndData_carryTheAlert() throws Exception {
-        AlertEnvelope a = alert(AlertEnvelope.Kind.SAMPLE_RATIO);
+        AlertEnvelope a = alert(AlertKind.SAMPLE_RATIO);
         JsonNode e = parse(events.toBytes(a));
         assertEquals("checkout-redesign", e.get("subject").asText());
         assertEquals("application/json", e.get("datacontenttype").asText());
@@ -87,13 +88,13 @@ class CloudEventsTest {
 
     @Test
     void id_isStablePerDecision_andDiffersBetweenDecisions() throws Exception {
-        String a = parse(events.toBytes(alert(AlertEnvelope.Kind.EFFICACY))).get("id").asText();
-        String b = parse(events.toBytes(alert(AlertEnvelope.Kind.EFFICACY))).get("id").asText();
+        String a = parse(events.toBytes(alert(AlertKind.EFFICACY))).get("id").asText();
+        String b = parse(events.toBytes(alert(AlertKind.EFFICACY))).get("id").asText();
         assertEquals(a, b, "the same decision rendered twice keeps its id");
-        assertEquals(AlertEnvelope.stableId("checkout-redesign", AlertEnvelope.Kind.EFFICACY, "look-3"), a);
-        assertNotEquals(a, AlertEnvelope.stableId("checkout-redesign", AlertEnvelope.Kind.EFFICACY, "look-4"));
-        assertNotEquals(a, AlertEnvelope.stableId("gift-wrap-upsell", AlertEnvelope.Kind.EFFICACY, "look-3"));
-        assertNotEquals(a, AlertEnvelope.stableId("checkout-redesign", AlertEnvelope.Kind.FUTILITY, "look-3"));
+        assertEquals(AlertEnvelope.stableId("checkout-redesign", AlertKind.EFFICACY, "look-3"), a);
+        assertNotEquals(a, AlertEnvelope.stableId("checkout-redesign", AlertKind.EFFICACY, "look-4"));
+        assertNotEquals(a, AlertEnvelope.stableId("gift-wrap-upsell", AlertKind.EFFICACY, "look-3"));
+        assertNotEquals(a, AlertEnvelope.stableId("checkout-redesign", AlertKind.FUTILITY, "look-3"));
     }
 
     @Test
@@ -108,16 +109,16 @@ class CloudEventsTest {
     void envelope_copiesPayload_andRejectsBlankIds() {
         Map<String, Object> p = new LinkedHashMap<>();
         p.put("look", 1);
-        AlertEnvelope a = new AlertEnvelope("id-1", "recommendations-v2", AlertEnvelope.Kind.GUARDRAIL, T, p);
+        AlertEnvelope a = new AlertEnvelope("id-1", "recommendations-v2", AlertKind.GUARDRAIL, T, p);
         p.put("look", 2);
         assertEquals(1, a.payload().get("look"), "later changes to the caller's map do not leak in");
         assertThrows(UnsupportedOperationException.class, () -> a.payload().put("x", 1));
         assertThrows(IllegalArgumentException.class,
-                () -> new AlertEnvelope(" ", "x", AlertEnvelope.Kind.GUARDRAIL, T, Map.of()));
+                () -> new AlertEnvelope(" ", "x", AlertKind.GUARDRAIL, T, Map.of()));
         assertThrows(IllegalArgumentException.class,
                 () -> new AlertEnvelope("id", "x", null, T, Map.of()));
         IllegalArgumentException e = assertThrows(IllegalArgumentException.class,
-                () -> AlertEnvelope.Kind.ofCode("sample_ratio"));
+                () -> AlertKind.fromWireName("sample_ratio"));
         assertFalse(e.getMessage().isEmpty());
     }
 

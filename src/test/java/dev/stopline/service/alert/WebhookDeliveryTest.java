@@ -1,5 +1,6 @@
 package dev.stopline.service.alert;
 
+import dev.stopline.monitor.AlertKind;
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
@@ -146,7 +147,7 @@ class WebhookDeliveryTest {
     }
 
     private static AlertEnvelope alert(String occasion) {
-        AlertEnvelope.Kind k = AlertEnvelope.Kind.EFFICACY;
+        AlertKind k = AlertKind.EFFICACY;
         return new AlertEnvelope(AlertEnvelope.stableId("checkout-redesign", k, occasion), "checkout-redesign", k,
                 START, Map.of("look", 2));
     }

@@ -346,6 +346,15 @@ class BoundariesTest {
         assertTrue(interim.futilityZ() < interim.efficacyZ(), interim.toString());
     }
 
+    @Test
+    void flexibleLooks_fromThePlannedSet_equalTheDesignRecomputation() {
+        // The planned drift is a property of the design; reusing it must not change a single bit.
+        Design d = Design.of(0.05, 2).withEqualLooks(5).withFutility("power:2", 0.2, false);
+        BoundarySet planned = Boundaries.compute(d);
+        double[] reached = {0.23, 0.41, 0.66};
+        assertEquals(Boundaries.next(d, reached), Boundaries.next(planned, reached));
+    }
+
     // ---------------------------------------------------------------------------------- bad arguments
 
     @Test
