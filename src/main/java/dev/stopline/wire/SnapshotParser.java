@@ -11,8 +11,11 @@ import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import com.fasterxml.jackson.databind.json.JsonMapper;
 import java.io.IOException;
+import java.time.DateTimeException;
 import java.time.Instant;
+import java.time.LocalDateTime;
 import java.time.OffsetDateTime;
+import java.time.ZoneOffset;
 import java.time.format.DateTimeParseException;
 import java.util.LinkedHashMap;
 import java.util.Map;
@@ -239,11 +242,55 @@ public final class SnapshotParser {
     private static Instant instant(JsonNode n) {
         String s = text(n, "/observedAt");
         try {
-            return OffsetDateTime.parse(s).toInstant();
+            return dateTime(s);
         } catch (DateTimeParseException e) {
             throw reject(Reason.INVALID_VALUE, "/observedAt: " + quote(s)
                     + " is not an ISO-8601 date-time with offset, e.g. 2027-03-04T10:00:00Z");
         }
+    }
+
+    /**
+     * {@code OffsetDateTime.parse(s).toInstant()}, with a fast path for the form producers write almost
+     * always, {@code yyyy-MM-ddTHH:mm:ssZ} (20 ASCII characters). The formatter was 12% of the daemon's
+     * ingest CPU in a flight recording of the ingest benchmark (about 1.2 us a call once compiled, in a
+     * loop of 300,000 calls; the fast path 0.04 us); the fast path reads the six fields and lets
+     * {@code LocalDateTime.of} check their ranges. Anything else, including a
+     * fast-path string whose fields are out of range, goes to the formatter, so the set of accepted
+     * strings, their values and the rejection are those of {@code OffsetDateTime.parse}.
+     *
+     * @throws DateTimeParseException when {@code OffsetDateTime.parse} refuses {@code s}
+     */
+    static Instant dateTime(String s) {
+        if (s.length() == 20 && s.charAt(19) == 'Z' && s.charAt(4) == '-' && s.charAt(7) == '-'
+                && s.charAt(10) == 'T' && s.charAt(13) == ':' && s.charAt(16) == ':') {
+            int year = digits(s, 0, 4);
+            int month = digits(s, 5, 2);
+            int day = digits(s, 8, 2);
+            int hour = digits(s, 11, 2);
+            int minute = digits(s, 14, 2);
+            int second = digits(s, 17, 2);
+            if ((year | month | day | hour | minute | second) >= 0) {
+                try {
+                    return LocalDateTime.of(year, month, day, hour, minute, second).toInstant(ZoneOffset.UTC);
+                } catch (DateTimeException outOfRange) {
+                    // the formatter gives the rejection
+                }
+            }
+        }
+        return OffsetDateTime.parse(s).toInstant();
+    }
+
+    /** The value of {@code length} ASCII digits at {@code from}, or -1 if any is not one. */
+    private static int digits(String s, int from, int length) {
+        int v = 0;
+        for (int i = from; i < from + length; i++) {
+            char c = s.charAt(i);
+            if (c < '0' || c > '9') {
+                return -1;
+            }
+            v = v * 10 + (c - '0');
+        }
+        return v;
     }
 
     private static long whole(JsonNode n, String at, long max) {

@@ -36,16 +36,26 @@ public final class DaemonProcess implements AutoCloseable {
 
     /** Starts {@code serve} with the given options (a free {@code --port} is added) and waits until it is ready. */
     public static DaemonProcess serve(List<String> options, Path log) {
+        return serve(List.of("-Xmx512m"), options, log);
+    }
+
+    /**
+     * Starts {@code serve} in a JVM with the given options (heap size, system properties, a flight
+     * recording), a free {@code --port} added, and waits until it is ready.
+     */
+    public static DaemonProcess serve(List<String> jvmOptions, List<String> options, Path log) {
         String jar = System.getProperty("stopline.jar", "target/quarkus-app/quarkus-run.jar");
         int port = FreePorts.pick();
-        List<String> cmd = new ArrayList<>(List.of(Path.of(System.getProperty("java.home"), "bin", "java").toString(),
-                "-Xmx512m", "-jar", jar, "serve", "--port", Integer.toString(port)));
+        List<String> cmd = new ArrayList<>(List.of(Path.of(System.getProperty("java.home"), "bin", "java").toString()));
+        cmd.addAll(jvmOptions);
+        cmd.addAll(List.of("-jar", jar, "serve", "--port", Integer.toString(port)));
         cmd.addAll(options);
         try {
             Process p = new ProcessBuilder(cmd).redirectErrorStream(true)
                     .redirectOutput(ProcessBuilder.Redirect.appendTo(log.toFile())).start();
             DaemonProcess d = new DaemonProcess(p, port);
-            d.awaitReady(Duration.ofSeconds(180));
+            // 180 s unless -Dstopline.daemon.ready-seconds says otherwise (10,000 plans on a busy machine)
+            d.awaitReady(Duration.ofSeconds(Long.getLong("stopline.daemon.ready-seconds", 180)));
             return d;
         } catch (IOException e) {
             throw new UncheckedIOException(e);

@@ -14,6 +14,7 @@ import jakarta.enterprise.context.ApplicationScoped;
 import jakarta.inject.Inject;
 import java.time.Clock;
 import java.time.Duration;
+import java.time.Instant;
 import java.util.List;
 import java.util.Map;
 import java.util.concurrent.ConcurrentHashMap;
@@ -84,6 +85,97 @@ public class CountsIngest {
                 return;
             }
         }
+    }
+
+    /**
+     * Handles the records of one poll; returns only when all their effects are durable. The effects go
+     * to the database in one transaction ({@link Store#commitBatch}), which writes each experiment's state
+     * once however many of its snapshots the poll held; dead letters, metrics and alert wake-ups follow
+     * the commit. If anything fails before the commit (an evaluator defect, a database error) nothing of
+     * the batch has happened, and the records are handled again one by one by {@link #accept}, which
+     * knows how to quarantine a record and how to wait for the database.
+     */
+    public void acceptAll(List<ConsumerRecord<String, byte[]>> records) {
+        if (records.size() == 1) {
+            accept(records.get(0));
+            return;
+        }
+        Batch batch;
+        try {
+            batch = evaluate(records);
+            batch.fresh = store.commitBatch(batch.changes, dispatcher.channels(), clock.instant());
+        } catch (RuntimeException e) {
+            cache.clear();
+            LOG.debugf("batch of %d records failed (%s); handling them one by one", records.size(), e.getMessage());
+            for (ConsumerRecord<String, byte[]> r : records) {
+                accept(r);
+            }
+            return;
+        }
+        cache.putAll(batch.states);
+        batch.afterCommit.forEach(Runnable::run);
+        for (Alert a : batch.fresh) {
+            metrics.alert(a.kind().wireName());
+            LOG.debugf("alert raised: %s", a.summary());
+        }
+        if (!batch.fresh.isEmpty()) {
+            dispatcher.wake();
+        }
+    }
+
+    /** What a poll's records decided, not yet durable. */
+    private static final class Batch {
+        final Map<String, Store.StoredState> states = new java.util.HashMap<>();
+        final List<Store.Change> changes = new java.util.ArrayList<>();
+        final List<Runnable> afterCommit = new java.util.ArrayList<>();
+        List<Alert> fresh = List.of();
+    }
+
+    private Batch evaluate(List<ConsumerRecord<String, byte[]>> records) {
+        Batch b = new Batch();
+        Instant now = clock.instant();
+        for (ConsumerRecord<String, byte[]> record : records) {
+            String key = record.key();
+            Store.StoredState stored = key == null ? null : current(key, b.states);
+            if (stored != null && stored.position().covers(record.partition(), record.offset())) {
+                b.afterCommit.add(() -> metrics.snapshot("redelivered"));
+                continue;
+            }
+            long started = System.nanoTime();
+            Monitoring.Step step = monitoring.process(record.value(), key, id -> {
+                Store.StoredState s = current(id, b.states);
+                return s == null ? null : s.state();
+            });
+            Store.Position position = new Store.Position(record.partition(), record.offset());
+            if (step instanceof Monitoring.Rejected r) {
+                b.afterCommit.add(() -> {
+                    deadLetters.publish(record, r.rejection().reason().code(), r.rejection().detail());
+                    metrics.deadLetter(r.rejection().reason().code());
+                });
+            } else if (step instanceof Monitoring.Duplicate d) {
+                String id = d.snapshot().experiment();
+                b.changes.add(Store.Change.positionOnly(id, position));
+                Store.StoredState s = current(id, b.states);
+                if (s != null) {
+                    b.states.put(id, new Store.StoredState(s.state(), position, s.status(), now));
+                }
+                b.afterCommit.add(() -> metrics.snapshot("duplicate"));
+            } else if (step instanceof Monitoring.Evaluated e) {
+                MonitorState next = e.evaluation().state();
+                String status = status(next, e.evaluation().looks());
+                b.changes.add(Store.Change.evaluated(e.evaluation(), status, position));
+                b.states.put(next.experiment(), new Store.StoredState(next, position, status, now));
+                long nanos = System.nanoTime() - started;
+                b.afterCommit.add(() -> metrics.evaluated(e, nanos));
+            }
+        }
+        return b;
+    }
+
+    /** The state as this batch has left it so far, else as stored. */
+    private Store.StoredState current(String experiment, Map<String, Store.StoredState> batch) {
+        Store.StoredState s = batch.get(experiment);
+        return s != null ? s : stored(experiment);
     }
 
     /**

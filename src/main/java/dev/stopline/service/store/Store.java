@@ -175,43 +175,96 @@ public class Store {
     public List<Alert> commitEvaluation(Evaluation e, String status, Position position, List<String> channels,
                                         Instant now) {
         return inTransaction(c -> {
-            MonitorState s = e.state();
-            upsertState(c, s, status, position, now);
-            try (PreparedStatement ps = c.prepareStatement("INSERT INTO look (experiment_id, metric, sequence, role, "
-                    + "look_number, decision, record_json, observed_at, evaluated_at) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)")) {
-                for (LookRecord l : e.looks()) {
-                    ps.setString(1, l.experiment());
-                    ps.setString(2, l.metric());
-                    ps.setLong(3, l.sequence());
-                    ps.setString(4, l.role());
-                    if (l.look() == null) {
-                        ps.setNull(5, java.sql.Types.INTEGER);
-                    } else {
-                        ps.setInt(5, l.look());
-                    }
-                    ps.setString(6, l.decision().wireName());
-                    ps.setString(7, Json.write(l));
-                    ps.setTimestamp(8, Timestamp.from(l.observedAt()));
-                    ps.setTimestamp(9, Timestamp.from(now));
-                    ps.addBatch();
-                }
-                ps.executeBatch();
-            }
+            upsertState(c, e.state(), status, position, now);
+            return writeEvaluation(c, e, channels, now);
+        });
+    }
+
+    /** One snapshot's effect in a batch: an evaluation (with its status), or only a new position (a duplicate). */
+    public record Change(String experiment, Evaluation evaluation, String status, Position position) {
+        public static Change evaluated(Evaluation e, String status, Position position) {
+            return new Change(e.state().experiment(), e, status, position);
+        }
+
+        public static Change positionOnly(String experiment, Position position) {
+            return new Change(experiment, null, null, position);
+        }
+    }
+
+    /**
+     * Stores the effects of several snapshots (one poll of the counts topic) in one transaction: every
+     * look, alert and outbox row, and each experiment's state once, as left by its last change; a
+     * duplicate only moves the position. Returns the alerts that were new, in order. All or nothing,
+     * like {@link #commitEvaluation}: the batch's offsets are committed only after this returns.
+     */
+    public List<Alert> commitBatch(List<Change> changes, List<String> channels, Instant now) {
+        return inTransaction(c -> {
             List<Alert> fresh = new ArrayList<>();
-            for (Alert a : e.alerts()) {
-                if (insertAlert(c, a, now)) {
-                    fresh.add(a);
-                    for (String channel : channels) {
-                        insertOutbox(c, a.id(), channel, now);
-                    }
+            java.util.Map<String, Change> lastState = new java.util.LinkedHashMap<>();
+            java.util.Map<String, Position> lastPosition = new java.util.LinkedHashMap<>();
+            for (Change ch : changes) {
+                if (ch.evaluation() != null) {
+                    fresh.addAll(writeEvaluation(c, ch.evaluation(), channels, now));
+                    lastState.put(ch.experiment(), ch);
                 }
+                lastPosition.put(ch.experiment(), ch.position());
             }
-            boolean primaryLook = e.looks().stream().anyMatch(l -> LookRecord.PRIMARY.equals(l.role()));
-            if (primaryLook) {
-                lockPlan(c, s.experiment(), s.cumulativeAlphaSpent(), now);
+            for (java.util.Map.Entry<String, Position> p : lastPosition.entrySet()) {
+                Change ch = lastState.get(p.getKey());
+                if (ch != null) {
+                    upsertState(c, ch.evaluation().state(), ch.status(), p.getValue(), now);
+                } else {
+                    updatePosition(c, p.getKey(), p.getValue(), now);
+                }
             }
             return fresh;
         });
+    }
+
+    /** Looks, new alerts with their outbox rows, and the plan lock of one evaluation; returns the new alerts. */
+    private static List<Alert> writeEvaluation(Connection c, Evaluation e, List<String> channels, Instant now)
+            throws SQLException {
+        MonitorState s = e.state();
+        if (!e.looks().isEmpty()) {
+            insertLooks(c, e.looks(), now);
+        }
+        List<Alert> fresh = new ArrayList<>();
+        for (Alert a : e.alerts()) {
+            if (insertAlert(c, a, now)) {
+                fresh.add(a);
+                for (String channel : channels) {
+                    insertOutbox(c, a.id(), channel, now);
+                }
+            }
+        }
+        boolean primaryLook = e.looks().stream().anyMatch(l -> LookRecord.PRIMARY.equals(l.role()));
+        if (primaryLook) {
+            lockPlan(c, s.experiment(), s.cumulativeAlphaSpent(), now);
+        }
+        return fresh;
+    }
+
+    private static void insertLooks(Connection c, List<LookRecord> looks, Instant now) throws SQLException {
+        try (PreparedStatement ps = c.prepareStatement("INSERT INTO look (experiment_id, metric, sequence, role, "
+                + "look_number, decision, record_json, observed_at, evaluated_at) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)")) {
+            for (LookRecord l : looks) {
+                ps.setString(1, l.experiment());
+                ps.setString(2, l.metric());
+                ps.setLong(3, l.sequence());
+                ps.setString(4, l.role());
+                if (l.look() == null) {
+                    ps.setNull(5, java.sql.Types.INTEGER);
+                } else {
+                    ps.setInt(5, l.look());
+                }
+                ps.setString(6, l.decision().wireName());
+                ps.setString(7, Json.write(l));
+                ps.setTimestamp(8, Timestamp.from(l.observedAt()));
+                ps.setTimestamp(9, Timestamp.from(now));
+                ps.addBatch();
+            }
+            ps.executeBatch();
+        }
     }
 
     /** Advances only the position and last snapshot (a duplicate, or a snapshot with nothing to evaluate). */
@@ -315,16 +368,21 @@ public class Store {
     /** Records that a record was seen again (duplicate) without changing the evaluation. */
     public void advancePosition(String experimentId, Position position, Instant now) {
         inTransaction(c -> {
-            try (PreparedStatement ps = c.prepareStatement("UPDATE monitor_state SET source_partition = ?, "
-                    + "source_offset = ?, updated_at = ? WHERE experiment_id = ?")) {
-                ps.setObject(1, position.partition(), java.sql.Types.INTEGER);
-                ps.setObject(2, position.offset(), java.sql.Types.BIGINT);
-                ps.setTimestamp(3, Timestamp.from(now));
-                ps.setString(4, experimentId);
-                ps.executeUpdate();
-            }
+            updatePosition(c, experimentId, position, now);
             return null;
         });
+    }
+
+    private static void updatePosition(Connection c, String experimentId, Position position, Instant now)
+            throws SQLException {
+        try (PreparedStatement ps = c.prepareStatement("UPDATE monitor_state SET source_partition = ?, "
+                + "source_offset = ?, updated_at = ? WHERE experiment_id = ?")) {
+            ps.setObject(1, position.partition(), java.sql.Types.INTEGER);
+            ps.setObject(2, position.offset(), java.sql.Types.BIGINT);
+            ps.setTimestamp(3, Timestamp.from(now));
+            ps.setString(4, experimentId);
+            ps.executeUpdate();
+        }
     }
 
     // ------------------------------------------------------------------ looks and alerts

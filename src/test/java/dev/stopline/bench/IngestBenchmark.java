@@ -1,0 +1,588 @@
+package dev.stopline.bench;
+
+import com.fasterxml.jackson.databind.JsonNode;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import dev.stopline.service.broker.EmbeddedKafka;
+import dev.stopline.testing.Counts;
+import dev.stopline.testing.DaemonProcess;
+import dev.stopline.testing.FreePorts;
+import dev.stopline.testing.KafkaBrokerExtension;
+import java.io.IOException;
+import java.io.UncheckedIOException;
+import java.nio.charset.StandardCharsets;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.time.Duration;
+import java.time.Instant;
+import java.util.ArrayList;
+import java.util.Arrays;
+import java.util.List;
+import java.util.Locale;
+import java.util.Map;
+import java.util.Properties;
+import java.util.SplittableRandom;
+import java.util.concurrent.BlockingQueue;
+import java.util.concurrent.LinkedBlockingQueue;
+import java.util.concurrent.TimeUnit;
+import java.util.concurrent.atomic.AtomicBoolean;
+import java.util.regex.Matcher;
+import java.util.regex.Pattern;
+import org.apache.kafka.clients.consumer.ConsumerRecord;
+import org.apache.kafka.clients.consumer.ConsumerRecords;
+import org.apache.kafka.clients.consumer.KafkaConsumer;
+import org.apache.kafka.clients.producer.KafkaProducer;
+import org.apache.kafka.clients.producer.ProducerRecord;
+import org.apache.kafka.common.TopicPartition;
+import org.apache.kafka.common.serialization.ByteArrayDeserializer;
+import org.apache.kafka.common.serialization.StringDeserializer;
+import org.apache.kafka.common.serialization.StringSerializer;
+
+/**
+ * Ingest benchmark of the packaged daemon on loopback: a real embedded broker in this JVM, the daemon
+ * ({@code quarkus-run.jar serve}) as a separate process on an H2 file database. Three figures:
+ *
+ * <ol>
+ *   <li><b>Throughput</b>: snapshots per second end to end (ingest, evaluate, persist; the offset is
+ *       committed after the transaction), measured as the time from producing the first snapshot of the
+ *       timed range until {@code stopline_snapshots_total} counts the last one; then a bare
+ *       {@code KafkaConsumer} (same deserializers, no processing) reads the same offsets of the same
+ *       topic. The ratio daemon / bare consumer is the figure (target at least 0.5).</li>
+ *   <li><b>Produce-to-alert latency</b>: one snapshot at a time, each of a fresh experiment with a
+ *       60/40 split against a 50/50 allocation (a sample-ratio mismatch at the first snapshot), timed from
+ *       just before {@code send} to the CloudEvent's arrival on the alert topic in this JVM (one clock).
+ *       p50, p99 and max after a warm-up (target p99 below 50 ms).</li>
+ *   <li><b>Heap</b>: a second daemon with {@code bench.heapExperiments} plans (10,000) in its plans
+ *       directory, each fed {@code bench.heapSnapshots} snapshots; then {@code jcmd GC.run} and the used
+ *       heap from {@code jvm_memory_used_bytes{area="heap"}} (target below 512 MiB).</li>
+ * </ol>
+ *
+ * <p>Bounded: every wait has a deadline, the daemons are stopped and the temporary directory deleted at
+ * the end. Settings are system properties ({@code -Dbench.experiments=100} ...; see {@link Settings});
+ * {@code -Dbench.jfr=/tmp/ingest.jfr} makes the first daemon write a flight recording. Not part of the test
+ * run (it has a {@code main}, no {@code @Test}). Run it as DEVELOPERS.md says under "Benchmarks".
+ */
+public final class IngestBenchmark {
+    private static final String COUNTS = "stopline.counts";
+    private static final String ALERTS = "stopline.alerts";
+
+    private IngestBenchmark() {
+    }
+
+    /** What the run does; each from a system property of the same name with the prefix {@code bench.}. */
+    record Settings(int experiments, int warmupRounds, int rounds, int alerts, int alertWarmup, int heapExperiments,
+                    int heapSnapshots, String xmx, String jfr, List<String> phases, boolean keep) {
+        static Settings fromSystemProperties() {
+            return new Settings(Integer.getInteger("bench.experiments", 100),
+                    Integer.getInteger("bench.warmupRounds", 20),
+                    Integer.getInteger("bench.rounds", 200),
+                    Integer.getInteger("bench.alerts", 200),
+                    Integer.getInteger("bench.alertWarmup", 20),
+                    Integer.getInteger("bench.heapExperiments", 10_000),
+                    Integer.getInteger("bench.heapSnapshots", 3),
+                    System.getProperty("bench.xmx", "1g"),
+                    System.getProperty("bench.jfr", ""),
+                    List.of(System.getProperty("bench.phases", "throughput,latency,heap").split(",")),
+                    Boolean.getBoolean("bench.keep"));
+        }
+    }
+
+    public static void main(String[] args) throws Exception {
+        Settings s = Settings.fromSystemProperties();
+        if (System.getProperty("stopline.daemon.ready-seconds") == null) {
+            // registering 10,000 plan files took 55 s at load 12 and 173 s at load 17 on 2 cores
+            System.setProperty("stopline.daemon.ready-seconds", "600");
+        }
+        KafkaBrokerExtension.trapExit();
+        KafkaBrokerExtension.quietKafkaLogging();
+        Path dir = Files.createTempDirectory("stopline-bench-");
+        List<String> report = new ArrayList<>();
+        report.add("load average at start: " + loadAverage());
+        int[] ports = FreePorts.pickTwo();
+        try (EmbeddedKafka broker = EmbeddedKafka.builder().port(ports[0]).controllerPort(ports[1])
+                .dataDir(dir.resolve("kafka")).topic(COUNTS, 1).topic(ALERTS, 1).topic("stopline.counts.dlq", 1)
+                .topic("heap.counts", 1).topic("heap.alerts", 1).topic("heap.dlq", 1).build().start()) {
+            if (s.phases().contains("throughput") || s.phases().contains("latency")) {
+                runFirstDaemon(s, broker.bootstrapServers(), dir, report);
+            }
+            if (s.phases().contains("heap")) {
+                runHeapDaemon(s, broker.bootstrapServers(), dir, report);
+            }
+        } finally {
+            report.add("load average at end: " + loadAverage());
+            System.out.println();
+            System.out.println("== Stopline ingest benchmark ==");
+            report.forEach(System.out::println);
+            if (s.keep()) {
+                System.out.println("kept " + dir);
+            } else {
+                KafkaBrokerExtension.deleteTree(dir);
+            }
+        }
+        System.exit(0); // the broker's and clients' non-daemon threads are gone, but be sure
+    }
+
+    // ------------------------------------------------------------------ throughput and latency
+
+    private static void runFirstDaemon(Settings s, String servers, Path dir, List<String> report) throws Exception {
+        Path plans = Files.createDirectories(dir.resolve("plans"));
+        int perExperiment = s.warmupRounds() + s.rounds();
+        for (int i = 0; i < s.experiments(); i++) {
+            Files.writeString(plans.resolve(tpId(i) + ".yaml"), plan(tpId(i), 100L * perExperiment));
+        }
+        for (int i = 0; i < s.alertWarmup() + s.alerts(); i++) {
+            Files.writeString(plans.resolve(latId(i) + ".yaml"), plan(latId(i), 1_000_000));
+        }
+        List<String> jvm = new ArrayList<>(List.of("-Xmx" + s.xmx()));
+        if (!s.jfr().isBlank()) {
+            jvm.add("-XX:StartFlightRecording=filename=" + s.jfr() + ",settings=profile");
+        }
+        String jdbc = "jdbc:h2:file:" + dir.resolve("db").resolve("stopline").toAbsolutePath();
+        Path log = dir.resolve("daemon.log");
+        long t0 = System.nanoTime();
+        try (DaemonProcess daemon = DaemonProcess.serve(jvm, List.of("--bootstrap-servers", servers, "--jdbc-url", jdbc,
+                "--plans-dir", plans.toString()), log);
+             KafkaProducer<String, String> producer = producer(servers, 5)) {
+            report.add(String.format(Locale.ROOT, "daemon 1: %d + %d plans, ready in %.1f s (-Xmx%s)",
+                    s.experiments(), s.alertWarmup() + s.alerts(), seconds(System.nanoTime() - t0), s.xmx()));
+            if (s.phases().contains("throughput")) {
+                throughput(s, servers, daemon, producer, report);
+            }
+            if (s.phases().contains("latency")) {
+                latency(s, servers, daemon, report);
+            }
+            daemon.terminate(Duration.ofSeconds(30));
+        } catch (RuntimeException e) {
+            System.err.println("daemon log tail:\n" + tail(log, 40));
+            throw e;
+        }
+    }
+
+    private static void throughput(Settings s, String servers, DaemonProcess daemon,
+                                   KafkaProducer<String, String> producer, List<String> report) throws Exception {
+        SplittableRandom random = new SplittableRandom(20270301L);
+        long[][] cumulative = new long[s.experiments()][4];
+        long warmStart = endOffset(servers, COUNTS);
+        produceRounds(producer, s.experiments(), 1, s.warmupRounds(), cumulative, random);
+        long warmTarget = s.experiments() * (long) s.warmupRounds();
+        awaitProcessed(daemon, warmTarget, Duration.ofSeconds(600), 200);
+
+        long start = endOffset(servers, COUNTS);
+        long before = processed(daemon);
+        long m = s.experiments() * (long) s.rounds();
+        long t0 = System.nanoTime();
+        produceRounds(producer, s.experiments(), s.warmupRounds() + 1, s.rounds(), cumulative, random);
+        long produced = System.nanoTime() - t0;
+        // Records of one partition are handled in order, so the last experiment reaching the last round
+        // means every record before it is done; asking for it is far cheaper for the daemon than a scrape.
+        awaitSequence(daemon, tpId(s.experiments() - 1), s.warmupRounds() + s.rounds(), Duration.ofSeconds(1200));
+        long elapsed = System.nanoTime() - t0;
+        awaitProcessed(daemon, before + m, Duration.ofSeconds(60), 200);
+        long end = endOffset(servers, COUNTS);
+        double daemonRate = m / seconds(elapsed);
+        Map<String, Double> outcomes = snapshotOutcomes(daemon);
+
+        double bareRate = bareConsumerRate(servers, warmStart, start, end);
+        report.add(String.format(Locale.ROOT,
+                "throughput: %d snapshots (%d experiments x %d rounds, after %d warm-up rounds), produced in %.2f s",
+                m, s.experiments(), s.rounds(), s.warmupRounds(), seconds(produced)));
+        report.add(String.format(Locale.ROOT, "  daemon end to end: %.2f s = %.0f snapshots/s; outcomes %s, "
+                + "dead letters %.0f", seconds(elapsed), daemonRate, outcomes, deadLetters(daemon)));
+        report.add(String.format(Locale.ROOT, "  bare KafkaConsumer, same %d records: %.0f records/s", end - start,
+                bareRate));
+        report.add(String.format(Locale.ROOT, "  ratio daemon / bare consumer: %.3f (target >= 0.5: %s)",
+                daemonRate / bareRate, daemonRate / bareRate >= 0.5 ? "met" : "missed"));
+    }
+
+    /** Rounds {@code first..first+n-1}: each experiment one snapshot per round, ~100 more units per arm. */
+    private static void produceRounds(KafkaProducer<String, String> producer, int experiments, int first, int n,
+                                      long[][] cumulative, SplittableRandom random) {
+        for (int k = first; k < first + n; k++) {
+            for (int i = 0; i < experiments; i++) {
+                long[] c = cumulative[i];
+                c[0] += 95 + random.nextInt(11);
+                c[1] += random.nextInt(21);
+                c[2] += 95 + random.nextInt(11);
+                c[3] += random.nextInt(21);
+                producer.send(new ProducerRecord<>(COUNTS, tpId(i),
+                        Counts.proportion(tpId(i), k, "orders", c[0], c[1], c[2], c[3])));
+            }
+        }
+        producer.flush();
+    }
+
+    /** Records per second of a plain consumer over offsets [start, end), after reading [warm, start) once. */
+    private static double bareConsumerRate(String servers, long warm, long start, long end) {
+        Properties p = new Properties();
+        p.put("bootstrap.servers", servers);
+        p.put("key.deserializer", StringDeserializer.class.getName());
+        p.put("value.deserializer", ByteArrayDeserializer.class.getName());
+        p.put("enable.auto.commit", "false");
+        TopicPartition tp = new TopicPartition(COUNTS, 0);
+        try (KafkaConsumer<String, byte[]> c = new KafkaConsumer<>(p)) {
+            c.assign(List.of(tp));
+            c.seek(tp, warm);
+            readUntil(c, start);
+            c.seek(tp, start);
+            long t0 = System.nanoTime();
+            long bytes = readUntil(c, end);
+            long elapsed = System.nanoTime() - t0;
+            if (bytes <= 0) {
+                throw new IllegalStateException("bare consumer read nothing");
+            }
+            return (end - start) / seconds(elapsed);
+        }
+    }
+
+    /** Polls until the position reaches {@code end}; returns the value bytes read (so nothing is optimised away). */
+    private static long readUntil(KafkaConsumer<String, byte[]> c, long end) {
+        long bytes = 0;
+        long deadline = System.nanoTime() + Duration.ofSeconds(120).toNanos();
+        TopicPartition tp = c.assignment().iterator().next();
+        while (c.position(tp) < end) {
+            if (System.nanoTime() > deadline) {
+                throw new IllegalStateException("bare consumer did not reach offset " + end);
+            }
+            for (ConsumerRecord<String, byte[]> r : c.poll(Duration.ofMillis(100))) {
+                bytes += r.value().length + (r.key() == null ? 0 : 1);
+            }
+        }
+        return bytes;
+    }
+
+    private static void latency(Settings s, String servers, DaemonProcess daemon, List<String> report)
+            throws Exception {
+        BlockingQueue<Arrival> arrivals = new LinkedBlockingQueue<>();
+        AtomicBoolean stop = new AtomicBoolean();
+        Thread reader = alertReader(servers, arrivals, stop);
+        reader.start();
+        long[] latencies = new long[s.alerts()];
+        long[] sentAt = new long[s.alerts()];
+        long[] arrivedAt = new long[s.alerts()];
+        try (KafkaProducer<String, String> producer = producer(servers, 0)) {
+            Thread.sleep(1000); // the reader is positioned at the end of the alert topic
+            for (int i = 0; i < s.alertWarmup() + s.alerts(); i++) {
+                String id = latId(i);
+                String snapshot = Counts.proportion(id, 1, "orders", 6000, 600, 4000, 400);
+                long sentMillis = System.currentTimeMillis();
+                long sent = System.nanoTime();
+                producer.send(new ProducerRecord<>(COUNTS, id, snapshot));
+                long arrived = awaitAlert(arrivals, id, Duration.ofSeconds(30));
+                if (i >= s.alertWarmup()) {
+                    latencies[i - s.alertWarmup()] = arrived - sent;
+                    sentAt[i - s.alertWarmup()] = sentMillis;
+                    arrivedAt[i - s.alertWarmup()] = sentMillis + (arrived - sent) / 1_000_000;
+                }
+            }
+        } finally {
+            stop.set(true);
+            reader.join(5000);
+        }
+        report.add(breakdown(s, daemon, sentAt, arrivedAt));
+        Arrays.sort(latencies);
+        double p50 = millis(percentile(latencies, 0.50));
+        double p99 = millis(percentile(latencies, 0.99));
+        report.add(String.format(Locale.ROOT, "produce-to-alert latency over %d sample-ratio alerts (after %d warm-up),"
+                        + " one at a time: p50 %.1f ms, p99 %.1f ms, max %.1f ms (target p99 < 50 ms: %s)",
+                s.alerts(), s.alertWarmup(), p50, p99, millis(latencies[latencies.length - 1]),
+                p99 < 50 ? "met" : "missed"));
+    }
+
+    /**
+     * Where the time goes, from the daemon's own wall-clock stamps (millisecond resolution, same machine
+     * clock): sent -> alert row committed ({@code createdAt}: consume, evaluate, transaction), committed ->
+     * Kafka channel delivered ({@code deliveredAt}: dispatcher wake-up, log channel, send acknowledged),
+     * delivered -> arrival in this JVM (the reader's fetch).
+     */
+    private static String breakdown(Settings s, DaemonProcess daemon, long[] sentAt, long[] arrivedAt) {
+        ObjectMapper json = new ObjectMapper();
+        long[] ingest = new long[sentAt.length];
+        long[] dispatch = new long[sentAt.length];
+        long[] fetch = new long[sentAt.length];
+        try {
+            for (int j = 0; j < sentAt.length; j++) {
+                JsonNode a = json.readTree(daemon.getBody("/api/alerts?experiment=" + latId(j + s.alertWarmup()))).get(0);
+                long created = Instant.parse(a.path("createdAt").asText()).toEpochMilli();
+                long delivered = created;
+                for (JsonNode d : a.path("deliveries")) {
+                    if ("kafka".equals(d.path("channel").asText())) {
+                        delivered = Instant.parse(d.path("deliveredAt").asText()).toEpochMilli();
+                    }
+                }
+                ingest[j] = (created - sentAt[j]) * 1_000_000;
+                dispatch[j] = (delivered - created) * 1_000_000;
+                fetch[j] = (arrivedAt[j] - delivered) * 1_000_000;
+            }
+        } catch (IOException | RuntimeException e) {
+            return "  (no breakdown: " + e + ")";
+        }
+        return String.format(Locale.ROOT, "  p50 / p99 of the parts (ms): sent -> alert committed %.0f / %.0f; "
+                        + "committed -> Kafka delivery acknowledged %.0f / %.0f; acknowledged -> arrival %.0f / %.0f",
+                millis(percentile(sorted(ingest), 0.5)), millis(percentile(sorted(ingest), 0.99)),
+                millis(percentile(sorted(dispatch), 0.5)), millis(percentile(sorted(dispatch), 0.99)),
+                millis(percentile(sorted(fetch), 0.5)), millis(percentile(sorted(fetch), 0.99)));
+    }
+
+    private static long[] sorted(long[] values) {
+        long[] copy = values.clone();
+        Arrays.sort(copy);
+        return copy;
+    }
+
+    private record Arrival(String key, long nanos) {
+    }
+
+    /** Reads the alert topic from its current end and queues each record's key with its arrival time. */
+    private static Thread alertReader(String servers, BlockingQueue<Arrival> out, AtomicBoolean stop) {
+        Properties p = new Properties();
+        p.put("bootstrap.servers", servers);
+        p.put("key.deserializer", StringDeserializer.class.getName());
+        p.put("value.deserializer", StringDeserializer.class.getName());
+        p.put("enable.auto.commit", "false");
+        p.put("fetch.max.wait.ms", "100");
+        Thread t = new Thread(() -> {
+            TopicPartition tp = new TopicPartition(ALERTS, 0);
+            try (KafkaConsumer<String, String> c = new KafkaConsumer<>(p)) {
+                c.assign(List.of(tp));
+                c.seekToEnd(List.of(tp));
+                c.position(tp);
+                while (!stop.get()) {
+                    ConsumerRecords<String, String> records = c.poll(Duration.ofMillis(50));
+                    long now = System.nanoTime();
+                    for (ConsumerRecord<String, String> r : records) {
+                        out.add(new Arrival(r.key(), now));
+                    }
+                }
+            }
+        }, "bench-alert-reader");
+        t.setDaemon(true);
+        return t;
+    }
+
+    private static long awaitAlert(BlockingQueue<Arrival> arrivals, String key, Duration max)
+            throws InterruptedException {
+        long deadline = System.nanoTime() + max.toNanos();
+        while (true) {
+            long left = deadline - System.nanoTime();
+            Arrival a = arrivals.poll(Math.max(0, left), TimeUnit.NANOSECONDS);
+            if (a == null) {
+                throw new IllegalStateException("no alert for " + key + " within " + max);
+            }
+            if (key.equals(a.key())) {
+                return a.nanos();
+            }
+        }
+    }
+
+    // ------------------------------------------------------------------ heap
+
+    private static void runHeapDaemon(Settings s, String servers, Path dir, List<String> report) throws Exception {
+        Path plans = Files.createDirectories(dir.resolve("heap-plans"));
+        for (int i = 0; i < s.heapExperiments(); i++) {
+            String id = String.format(Locale.ROOT, "bookshop-%05d", i);
+            Files.writeString(plans.resolve(id + ".yaml"), plan(id, 100_000));
+        }
+        String jdbc = "jdbc:h2:file:" + dir.resolve("heap-db").resolve("stopline").toAbsolutePath();
+        Path log = dir.resolve("heap-daemon.log");
+        List<String> jvm = List.of("-Xmx" + s.xmx(), "-Dstopline.topics.counts=heap.counts",
+                "-Dstopline.topics.alerts=heap.alerts", "-Dstopline.topics.dead-letters=heap.dlq",
+                "-Dstopline.consumer-group=stopline-heap");
+        long t0 = System.nanoTime();
+        try (DaemonProcess daemon = DaemonProcess.serve(jvm, List.of("--bootstrap-servers", servers, "--jdbc-url", jdbc,
+                "--plans-dir", plans.toString()), log);
+             KafkaProducer<String, String> producer = producer(servers, 5)) {
+            double ready = seconds(System.nanoTime() - t0);
+            SplittableRandom random = new SplittableRandom(20270302L);
+            long t1 = System.nanoTime();
+            long[][] c = new long[s.heapExperiments()][4];
+            for (int k = 1; k <= s.heapSnapshots(); k++) {
+                for (int i = 0; i < s.heapExperiments(); i++) {
+                    String id = String.format(Locale.ROOT, "bookshop-%05d", i);
+                    c[i][0] += 950 + random.nextInt(101);
+                    c[i][1] += 90 + random.nextInt(21);
+                    c[i][2] += 950 + random.nextInt(101);
+                    c[i][3] += 90 + random.nextInt(21);
+                    producer.send(new ProducerRecord<>("heap.counts", id,
+                            Counts.proportion(id, k, "orders", c[i][0], c[i][1], c[i][2], c[i][3])));
+                }
+            }
+            producer.flush();
+            long total = (long) s.heapExperiments() * s.heapSnapshots();
+            awaitProcessed(daemon, total, Duration.ofSeconds(1800), 500);
+            double ingest = seconds(System.nanoTime() - t1);
+            Map<String, Double> outcomes = snapshotOutcomes(daemon);
+            jcmd(daemon.pid(), "GC.run");
+            double heapMiB = heapUsedBytes(daemon) / (1024.0 * 1024.0);
+            String info = jcmd(daemon.pid(), "GC.heap_info");
+            report.add(String.format(Locale.ROOT, "heap: %d plans registered from a plans directory, daemon ready in "
+                    + "%.1f s; %d snapshots (%d each) ingested in %.1f s (%.0f/s); outcomes %s",
+                    s.heapExperiments(), ready, total, s.heapSnapshots(), ingest, total / ingest, outcomes));
+            report.add(String.format(Locale.ROOT, "  used heap after jcmd GC.run: %.1f MiB "
+                    + "(jvm_memory_used_bytes{area=\"heap\"}, -Xmx%s; target < 512 MiB: %s)",
+                    heapMiB, s.xmx(), heapMiB < 512 ? "met" : "missed"));
+            report.add("  GC.heap_info: " + info.strip().replace("\n", "\n    "));
+            daemon.terminate(Duration.ofSeconds(30));
+        } catch (RuntimeException e) {
+            System.err.println("heap daemon log tail:\n" + tail(log, 40));
+            throw e;
+        }
+    }
+
+    private static double heapUsedBytes(DaemonProcess daemon) {
+        double sum = 0;
+        for (String line : daemon.getBody("/q/metrics").split("\n")) {
+            if (line.startsWith("jvm_memory_used_bytes{") && line.contains("area=\"heap\"")) {
+                sum += value(line);
+            }
+        }
+        return sum;
+    }
+
+    private static String jcmd(long pid, String command) {
+        Path jcmd = Path.of(System.getProperty("java.home"), "bin", "jcmd");
+        try {
+            Process p = new ProcessBuilder(jcmd.toString(), Long.toString(pid), command).redirectErrorStream(true)
+                    .start();
+            String out = new String(p.getInputStream().readAllBytes(), StandardCharsets.UTF_8);
+            if (!p.waitFor(60, TimeUnit.SECONDS) || p.exitValue() != 0) {
+                throw new IllegalStateException("jcmd " + command + " failed: " + out);
+            }
+            return out;
+        } catch (IOException e) {
+            throw new UncheckedIOException(e);
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
+            throw new IllegalStateException(e);
+        }
+    }
+
+    // ------------------------------------------------------------------ metrics and plumbing
+
+    /** Every snapshot the daemon has finished with: all outcomes plus dead letters. */
+    private static long processed(DaemonProcess daemon) {
+        double sum = deadLetters(daemon);
+        for (double v : snapshotOutcomes(daemon).values()) {
+            sum += v;
+        }
+        return Math.round(sum);
+    }
+
+    private static void awaitProcessed(DaemonProcess daemon, long target, Duration max, long pollMillis)
+            throws InterruptedException {
+        long deadline = System.nanoTime() + max.toNanos();
+        long seen;
+        while ((seen = processed(daemon)) < target) {
+            if (System.nanoTime() > deadline) {
+                throw new IllegalStateException("daemon processed " + seen + " of " + target + " within " + max);
+            }
+            Thread.sleep(pollMillis);
+        }
+    }
+
+    /** Waits (polling every 10 ms) until the experiment's last evaluated sequence reaches {@code sequence}. */
+    private static void awaitSequence(DaemonProcess daemon, String experiment, long sequence, Duration max)
+            throws InterruptedException {
+        Pattern last = Pattern.compile("\"lastSequence\"\\s*:\\s*(\\d+)");
+        long deadline = System.nanoTime() + max.toNanos();
+        while (true) {
+            Matcher m = last.matcher(daemon.getBody("/api/experiments/" + experiment));
+            if (m.find() && Long.parseLong(m.group(1)) >= sequence) {
+                return;
+            }
+            if (System.nanoTime() > deadline) {
+                throw new IllegalStateException(experiment + " did not reach sequence " + sequence + " within " + max);
+            }
+            Thread.sleep(10);
+        }
+    }
+
+    private static Map<String, Double> snapshotOutcomes(DaemonProcess daemon) {
+        Map<String, Double> out = new java.util.TreeMap<>();
+        for (String line : daemon.getBody("/q/metrics").split("\n")) {
+            if (line.startsWith("stopline_snapshots_total{")) {
+                int a = line.indexOf("outcome=\"") + 9;
+                out.put(line.substring(a, line.indexOf('"', a)), value(line));
+            }
+        }
+        return out;
+    }
+
+    private static double deadLetters(DaemonProcess daemon) {
+        double sum = 0;
+        for (String line : daemon.getBody("/q/metrics").split("\n")) {
+            if (line.startsWith("stopline_dead_letters_total{")) {
+                sum += value(line);
+            }
+        }
+        return sum;
+    }
+
+    private static double value(String metricLine) {
+        return Double.parseDouble(metricLine.substring(metricLine.lastIndexOf(' ') + 1));
+    }
+
+    private static KafkaProducer<String, String> producer(String servers, int lingerMs) {
+        Properties p = new Properties();
+        p.put("bootstrap.servers", servers);
+        p.put("key.serializer", StringSerializer.class.getName());
+        p.put("value.serializer", StringSerializer.class.getName());
+        p.put("acks", "all");
+        p.put("linger.ms", Integer.toString(lingerMs));
+        p.put("batch.size", Integer.toString(256 * 1024));
+        return new KafkaProducer<>(p);
+    }
+
+    private static long endOffset(String servers, String topic) {
+        Properties p = new Properties();
+        p.put("bootstrap.servers", servers);
+        p.put("key.deserializer", ByteArrayDeserializer.class.getName());
+        p.put("value.deserializer", ByteArrayDeserializer.class.getName());
+        TopicPartition tp = new TopicPartition(topic, 0);
+        try (KafkaConsumer<byte[], byte[]> c = new KafkaConsumer<>(p)) {
+            return c.endOffsets(List.of(tp), Duration.ofSeconds(30)).get(tp);
+        }
+    }
+
+    /** A small group-sequential plan (Counts.plan: OBF-type, 5 looks) sized to {@code maxUnits} per arm. */
+    private static String plan(String id, long maxUnits) {
+        return Counts.plan(id).replace("maxUnitsPerArm: 10000", "maxUnitsPerArm: " + maxUnits);
+    }
+
+    private static String tpId(int i) {
+        return String.format(Locale.ROOT, "checkout-%03d", i);
+    }
+
+    private static String latId(int i) {
+        return String.format(Locale.ROOT, "gift-wrap-%03d", i);
+    }
+
+    /** Nearest-rank percentile of sorted values. */
+    private static long percentile(long[] sorted, double q) {
+        int rank = (int) Math.ceil(q * sorted.length);
+        return sorted[Math.max(0, Math.min(sorted.length - 1, rank - 1))];
+    }
+
+    private static double seconds(long nanos) {
+        return nanos / 1e9;
+    }
+
+    private static double millis(long nanos) {
+        return nanos / 1e6;
+    }
+
+    private static String loadAverage() {
+        try {
+            return Files.readString(Path.of("/proc/loadavg")).strip();
+        } catch (IOException e) {
+            return "unknown";
+        }
+    }
+
+    private static String tail(Path log, int lines) {
+        try {
+            List<String> all = Files.readAllLines(log);
+            return String.join("\n", all.subList(Math.max(0, all.size() - lines), all.size()));
+        } catch (IOException e) {
+            return "(no log: " + e.getMessage() + ")";
+        }
+    }
+}
