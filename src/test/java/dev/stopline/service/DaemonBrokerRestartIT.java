@@ -13,7 +13,6 @@ import dev.stopline.testing.KafkaBrokerExtension;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.time.Duration;
-import java.util.ArrayList;
 import java.util.List;
 import java.util.Properties;
 import org.apache.kafka.clients.producer.KafkaProducer;
@@ -63,22 +62,17 @@ class DaemonBrokerRestartIT {
         try (DaemonProcess daemon = DaemonProcess.start(servers, jdbc, dir.resolve("plans"), dir.resolve("daemon.log"),
                 "--data-dir", dir.toString())) {
             send(servers, 1, 10);
-            awaitSequence(daemon, json, 10, Duration.ofSeconds(120));
+            daemon.awaitSequence(ID, 10, Duration.ofSeconds(120));
 
             broker.close();
             Thread.sleep(3000);                       // the daemon's clients see the broker gone
             broker = broker(dir, ports);              // same ports, same data
             send(servers, 11, 20);
-            awaitSequence(daemon, json, 20, Duration.ofSeconds(180));
+            daemon.awaitSequence(ID, 20, Duration.ofSeconds(180));
 
             JsonNode e = json.readTree(daemon.getBody("/api/experiments/" + ID));
             assertEquals(20, e.path("summary").path("snapshots").asLong(), "every snapshot evaluated once");
-            List<Long> looks = new ArrayList<>();
-            for (JsonNode l : json.readTree(daemon.getBody("/api/experiments/" + ID + "/looks"))) {
-                if ("primary".equals(l.path("role").asText())) {
-                    looks.add(l.path("sequence").asLong());
-                }
-            }
+            List<Long> looks = daemon.primaryLookSequences(ID);
             // 500 per arm per snapshot = fraction 0.05 each; looks every 0.1: sequences 2, 4, ..., 20
             assertEquals(List.of(2L, 4L, 6L, 8L, 10L, 12L, 14L, 16L, 18L, 20L), looks);
             String metrics = daemon.getBody("/q/metrics");
@@ -87,17 +81,5 @@ class DaemonBrokerRestartIT {
             broker.close();
             KafkaBrokerExtension.deleteTree(dir);
         }
-    }
-
-    private static void awaitSequence(DaemonProcess d, ObjectMapper json, long sequence, Duration max) throws Exception {
-        long deadline = System.nanoTime() + max.toNanos();
-        while (System.nanoTime() < deadline) {
-            JsonNode e = json.readTree(d.getBody("/api/experiments/" + ID));
-            if (e.path("summary").path("lastSequence").asLong(-1) >= sequence) {
-                return;
-            }
-            Thread.sleep(250);
-        }
-        throw new AssertionError("daemon did not reach sequence " + sequence + " within " + max);
     }
 }

@@ -5,29 +5,19 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
-import dev.stopline.monitor.Alert;
-import dev.stopline.monitor.Evaluation;
-import dev.stopline.monitor.ExperimentMonitor;
-import dev.stopline.monitor.LookRecord;
-import dev.stopline.monitor.MonitorState;
-import dev.stopline.plan.PlanParser;
 import dev.stopline.service.broker.EmbeddedKafka;
 import dev.stopline.testing.Counts;
 import dev.stopline.testing.DaemonProcess;
 import dev.stopline.testing.FreePorts;
 import dev.stopline.testing.KafkaBrokerExtension;
+import dev.stopline.testing.Oracle;
 import dev.stopline.testing.PostgresCluster;
-import dev.stopline.wire.Snapshot;
-import dev.stopline.wire.SnapshotParser;
-import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.time.Duration;
 import java.util.ArrayList;
 import java.util.HashSet;
-import java.util.LinkedHashMap;
 import java.util.List;
-import java.util.Map;
 import java.util.Properties;
 import org.apache.kafka.clients.producer.KafkaProducer;
 import org.apache.kafka.clients.producer.ProducerRecord;
@@ -134,19 +124,15 @@ class DaemonGroupIT {
             assertTrue(allDone(reader, json), "every experiment reached its last snapshot");
 
             for (int e = 0; e < EXPERIMENTS; e++) {
-                Oracle oracle = oracle(e);
-                List<Long> looks = new ArrayList<>();
-                for (JsonNode l : json.readTree(reader.getBody("/api/experiments/" + id(e) + "/looks"))) {
-                    if ("primary".equals(l.path("role").asText())) {
-                        looks.add(l.path("sequence").asLong());
-                    }
+                List<String> stream = new ArrayList<>();
+                for (int k = 1; k <= SNAPSHOTS; k++) {
+                    stream.add(snapshot(e, k));
                 }
-                List<String> alerts = new ArrayList<>();
-                for (JsonNode a : json.readTree(reader.getBody("/api/alerts?experiment=" + id(e)))) {
-                    alerts.add(a.path("alert").path("id").asText());
-                }
-                assertEquals(oracle.looks, looks, id(e) + ": looks stored once each, none lost");
-                assertEquals(new HashSet<>(oracle.alerts), new HashSet<>(alerts), id(e) + ": the oracle's alerts");
+                Oracle oracle = Oracle.of(plan(e), id(e), stream);
+                List<String> alerts = reader.alertIds(id(e));
+                assertEquals(oracle.primaryLookSequences(), reader.primaryLookSequences(id(e)),
+                        id(e) + ": looks stored once each, none lost");
+                assertEquals(new HashSet<>(oracle.alertIds()), new HashSet<>(alerts), id(e) + ": the oracle's alerts");
                 assertEquals(alerts.size(), new HashSet<>(alerts).size(), id(e) + ": no alert twice");
             }
         } finally {
@@ -162,24 +148,5 @@ class DaemonGroupIT {
             }
         }
         return true;
-    }
-
-    private record Oracle(List<Long> looks, List<String> alerts) {
-    }
-
-    private static Oracle oracle(int e) {
-        ExperimentMonitor m = ExperimentMonitor.of(PlanParser.parseYaml(plan(e)), 1);
-        MonitorState s = m.initialState();
-        List<Long> looks = new ArrayList<>();
-        List<String> alerts = new ArrayList<>();
-        SnapshotParser parser = SnapshotParser.withDefaults();
-        for (int k = 1; k <= SNAPSHOTS; k++) {
-            Snapshot snap = (Snapshot) parser.parse(snapshot(e, k).getBytes(StandardCharsets.UTF_8), id(e));
-            Evaluation ev = m.evaluate(s, snap);
-            s = ev.state();
-            ev.looks().stream().filter(l -> LookRecord.PRIMARY.equals(l.role())).forEach(l -> looks.add(l.sequence()));
-            ev.alerts().stream().map(Alert::id).forEach(alerts::add);
-        }
-        return new Oracle(looks, alerts);
     }
 }

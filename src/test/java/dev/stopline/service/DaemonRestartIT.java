@@ -4,22 +4,14 @@ import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
-import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
-import dev.stopline.monitor.Alert;
-import dev.stopline.monitor.Evaluation;
-import dev.stopline.monitor.ExperimentMonitor;
-import dev.stopline.monitor.LookRecord;
-import dev.stopline.monitor.MonitorState;
-import dev.stopline.plan.PlanParser;
 import dev.stopline.service.broker.EmbeddedKafka;
 import dev.stopline.testing.Counts;
 import dev.stopline.testing.DaemonProcess;
 import dev.stopline.testing.FreePorts;
 import dev.stopline.testing.KafkaBrokerExtension;
+import dev.stopline.testing.Oracle;
 import dev.stopline.wire.Snapshot;
-import dev.stopline.wire.SnapshotParser;
-import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.time.Duration;
@@ -27,7 +19,6 @@ import java.util.ArrayList;
 import java.util.HashSet;
 import java.util.List;
 import java.util.Properties;
-import java.util.Set;
 import org.apache.kafka.clients.producer.KafkaProducer;
 import org.apache.kafka.clients.producer.ProducerRecord;
 import org.apache.kafka.common.serialization.StringSerializer;
@@ -102,7 +93,7 @@ class DaemonRestartIT {
                 for (int k = 0; k < SNAPSHOTS; k++) {
                     producer.send(new ProducerRecord<>("stopline.counts", ID, stream.get(k))).get();
                     if (k == 34) {
-                        awaitSequence(first, json, 20, Duration.ofSeconds(120));
+                        first.awaitSequence(ID, 20, Duration.ofSeconds(120));
                         first.kill9();
                         assertFalse(first.isAlive(), "killed");
                     }
@@ -112,59 +103,16 @@ class DaemonRestartIT {
             }
         }
         try (DaemonProcess second = DaemonProcess.start(broker.bootstrapServers(), jdbc, dir.resolve("plans"), log, "--data-dir", dir.toString())) {
-            awaitSequence(second, json, SNAPSHOTS, Duration.ofSeconds(120));
+            second.awaitSequence(ID, SNAPSHOTS, Duration.ofSeconds(120));
 
-            List<Long> primary = new ArrayList<>();
-            for (JsonNode l : json.readTree(second.getBody("/api/experiments/" + ID + "/looks"))) {
-                if ("primary".equals(l.path("role").asText())) {
-                    primary.add(l.path("sequence").asLong());
-                }
-            }
-            List<String> alertIds = new ArrayList<>();
-            for (JsonNode a : json.readTree(second.getBody("/api/alerts?experiment=" + ID))) {
-                alertIds.add(a.path("alert").path("id").asText());
-            }
+            List<Long> primary = second.primaryLookSequences(ID);
+            List<String> alertIds = second.alertIds(ID);
 
-            Oracle oracle = oracle(stream);
-            assertEquals(oracle.primaryLookSequences, primary, "each look stored once, none lost");
-            assertEquals(new HashSet<>(oracle.alertIds), new HashSet<>(alertIds), "the same alerts as the oracle");
+            Oracle oracle = Oracle.of(plan(), ID, stream);
+            assertEquals(oracle.primaryLookSequences(), primary, "each look stored once, none lost");
+            assertEquals(new HashSet<>(oracle.alertIds()), new HashSet<>(alertIds), "the same alerts as the oracle");
             assertEquals(alertIds.size(), new HashSet<>(alertIds).size(), "no alert twice");
             assertTrue(alertIds.contains(ID + "/sample-ratio/-/1"), "the drifting split was caught: " + alertIds);
         }
-    }
-
-    private static void awaitSequence(DaemonProcess d, ObjectMapper json, long sequence, Duration max)
-            throws Exception {
-        long deadline = System.nanoTime() + max.toNanos();
-        while (System.nanoTime() < deadline) {
-            JsonNode e = json.readTree(d.getBody("/api/experiments/" + ID));
-            if (e.path("summary").path("lastSequence").asLong(-1) >= sequence) {
-                return;
-            }
-            Thread.sleep(200);
-        }
-        throw new AssertionError("daemon did not reach sequence " + sequence + " within " + max);
-    }
-
-    private record Oracle(List<Long> primaryLookSequences, List<String> alertIds) {
-    }
-
-    /** What the pure evaluator says about the same stream, evaluated in one go. */
-    private static Oracle oracle(List<String> stream) {
-        ExperimentMonitor m = ExperimentMonitor.of(PlanParser.parseYaml(plan()), 1);
-        MonitorState s = m.initialState();
-        List<Long> looks = new ArrayList<>();
-        List<String> alerts = new ArrayList<>();
-        SnapshotParser parser = SnapshotParser.withDefaults();
-        for (String line : stream) {
-            Snapshot snap = (Snapshot) parser.parse(line.getBytes(StandardCharsets.UTF_8), ID);
-            Evaluation e = m.evaluate(s, snap);
-            s = e.state();
-            e.looks().stream().filter(l -> LookRecord.PRIMARY.equals(l.role())).forEach(l -> looks.add(l.sequence()));
-            e.alerts().stream().map(Alert::id).forEach(alerts::add);
-        }
-        Set<Long> unique = new HashSet<>(looks);
-        assertEquals(looks.size(), unique.size());
-        return new Oracle(looks, alerts);
     }
 }

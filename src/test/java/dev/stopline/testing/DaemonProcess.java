@@ -1,5 +1,7 @@
 package dev.stopline.testing;
 
+import com.fasterxml.jackson.databind.JsonNode;
+import com.fasterxml.jackson.databind.ObjectMapper;
 import java.io.IOException;
 import java.io.UncheckedIOException;
 import java.net.URI;
@@ -16,6 +18,7 @@ import java.util.List;
  * kill it. Output goes to a log file under the test's directory.
  */
 public final class DaemonProcess implements AutoCloseable {
+    private static final ObjectMapper JSON = new ObjectMapper();
     private final Process process;
     private final int port;
     private final HttpClient http = HttpClient.newBuilder().connectTimeout(Duration.ofSeconds(2)).build();
@@ -93,6 +96,47 @@ public final class DaemonProcess implements AutoCloseable {
     public String getBody(String path) {
         try {
             return get(path).body();
+        } catch (IOException e) {
+            throw new UncheckedIOException(e);
+        }
+    }
+
+    /** Waits until the daemon has accepted the experiment's snapshot {@code sequence} (or a later one). */
+    public void awaitSequence(String experiment, long sequence, Duration max) {
+        long deadline = System.nanoTime() + max.toNanos();
+        while (System.nanoTime() < deadline) {
+            if (json(getBody("/api/experiments/" + experiment)).path("summary").path("lastSequence").asLong(-1)
+                    >= sequence) {
+                return;
+            }
+            sleep(250);
+        }
+        throw new AssertionError("daemon did not reach sequence " + sequence + " of " + experiment + " within " + max);
+    }
+
+    /** Sequences of the stored primary looks of an experiment, oldest first. */
+    public List<Long> primaryLookSequences(String experiment) {
+        List<Long> out = new ArrayList<>();
+        for (JsonNode l : json(getBody("/api/experiments/" + experiment + "/looks"))) {
+            if ("primary".equals(l.path("role").asText())) {
+                out.add(l.path("sequence").asLong());
+            }
+        }
+        return out;
+    }
+
+    /** Ids of the stored alerts of an experiment. */
+    public List<String> alertIds(String experiment) {
+        List<String> out = new ArrayList<>();
+        for (JsonNode a : json(getBody("/api/alerts?experiment=" + experiment))) {
+            out.add(a.path("alert").path("id").asText());
+        }
+        return out;
+    }
+
+    private static JsonNode json(String body) {
+        try {
+            return JSON.readTree(body);
         } catch (IOException e) {
             throw new UncheckedIOException(e);
         }
