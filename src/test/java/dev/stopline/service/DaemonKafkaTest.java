@@ -121,6 +121,56 @@ class DaemonKafkaTest {
         assertTrue(WebhookReceiver.shared().refused().isEmpty(), () -> "refused: " + WebhookReceiver.shared().refused());
     }
 
+    @Test
+    void mutatedRecordsBetweenGoodOnes_neverStopTheConsumer_andNoneIsTakenForAGoodOne() {
+        // 40 good snapshots, each followed by a seeded mutation of itself (same sequence). A mutation that no
+        // longer parses is dead-lettered with its reason; one that parses carries an already accepted sequence,
+        // so it is a duplicate (acknowledged, no look) whatever else it changed. All 40 good ones are evaluated.
+        String id = "it-fuzz";
+        register(id);
+        java.util.SplittableRandom random = new java.util.SplittableRandom(20270301);
+        List<String> records = new java.util.ArrayList<>();
+        Map<String, Integer> expected = new TreeMap<>();
+        for (int k = 1; k <= 40; k++) {
+            String good = Counts.proportion(id, k, "orders", 300L * k, 30L * k, 300L * k, 31L * k);
+            records.add(good);
+            int kind = random.nextInt(6);
+            records.add(mutate(good, kind, random));
+            String reason = kind == 0 ? "malformed-json" : kind == 1 || kind == 2 ? "invalid-value" : null;
+            if (reason != null) {
+                expected.merge(reason, 1, Integer::sum);
+            }
+        }
+        TestKafka.send(COUNTS, id, records.toArray(String[]::new));
+        await().atMost(WAIT).until(() -> store.state(id).map(st -> st.state().lastSequence() == 40).orElse(false));
+        assertEquals(40, store.state(id).orElseThrow().state().snapshots(), "exactly the good snapshots were evaluated");
+        await().atMost(WAIT).untilAsserted(() -> {
+            Map<String, Integer> reasons = new TreeMap<>();
+            TestKafka.readAll("stopline.counts.dlq", Duration.ofSeconds(1)).stream().filter(r -> id.equals(r.key()))
+                    .forEach(r -> reasons.merge(TestKafka.header(r, DeadLetters.REASON), 1, Integer::sum));
+            assertEquals(expected, reasons, "dead letters by reason");
+        });
+    }
+
+    /** One seeded mutation that keeps the sequence number (so it can never pass for a later snapshot). */
+    private static String mutate(String good, int kind, java.util.SplittableRandom random) {
+        int arms = good.indexOf("\"arms\"");
+        switch (kind) {
+            case 0:
+                return good.substring(0, arms + random.nextInt(good.length() - arms - 1));   // cut short
+            case 1:
+                return good.replaceFirst("\"units\":\\d+", "\"units\":-3");
+            case 2:
+                return good.replaceFirst("\"sum\":\\d+", "\"sum\":1e300");
+            case 3:
+                return good.replace("\"control\"", "\"kontrol\"");
+            case 4:
+                return good.replaceFirst("\"metrics\":\\{\"orders\":\\{[^}]*}}", "\"metrics\":{}");
+            default:
+                return good;                                                                 // a redelivery
+        }
+    }
+
     private static JsonNode read(ObjectMapper json, byte[] value) {
         try {
             return json.readTree(value);
