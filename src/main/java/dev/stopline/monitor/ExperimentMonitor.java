@@ -362,9 +362,7 @@ public final class ExperimentMonitor {
 
     private PrimaryOutcome wald(MonitorState s, Snapshot snap, Comparison cmp, double fraction) {
         Primary p = plan.primary();
-        double delta1 = p.sprt().minimumEffect() != null ? p.sprt().minimumEffect() : p.minimumEffect();
-        double beta = p.sprt().beta() != null ? p.sprt().beta() : 1 - (p.power() != null ? p.power() : 0.8);
-        WaldSprt.NormalDifference test = WaldSprt.of(p.alpha(), beta).normalDifference(delta1);
+        WaldSprt.NormalDifference test = WaldSprt.of(p.alpha(), waldBeta(p)).normalDifference(waldDelta1(p));
         double v = cmp.standardError() * cmp.standardError();
         SprtDecision d = test.decide(cmp.difference(), v);
         Decision decision = d == SprtDecision.ACCEPT_H1 ? Decision.EFFICACY
@@ -399,6 +397,22 @@ public final class ExperimentMonitor {
                 finiteOrNull(st.interval().lower()), finiteOrNull(st.interval().upper()), null, null, null, null,
                 null, decision);
         return new PrimaryOutcome(rec, withPrimary(s, decision, next));
+    }
+
+    /** The alternative of a Wald SPRT primary: {@code sprt.minimumEffect}, else the plan's {@code minimumEffect}; NaN if neither. */
+    public static double waldDelta1(Primary p) {
+        if (p.sprt() != null && p.sprt().minimumEffect() != null) {
+            return p.sprt().minimumEffect();
+        }
+        return p.minimumEffect() == null ? Double.NaN : p.minimumEffect();
+    }
+
+    /** The type II error of a Wald SPRT primary: {@code sprt.beta}, else 1 - power, else 0.2 (80% power: common practice). */
+    public static double waldBeta(Primary p) {
+        if (p.sprt() != null && p.sprt().beta() != null) {
+            return p.sprt().beta();
+        }
+        return 1 - (p.power() != null ? p.power() : 0.8);
     }
 
     private MonitorState withPrimary(MonitorState s, Decision decision, MonitorState.MixtureMemo mixture) {

@@ -21,10 +21,10 @@ import java.util.regex.Pattern;
  * metrics unique.
  */
 public final class PlanValidator {
-    /** Experiment ids: lower case, usable as Kafka key, file name and metric label. */
-    public static final Pattern EXPERIMENT_ID = Pattern.compile("[a-z0-9][a-z0-9._-]{0,127}");
+    /** Experiment ids: lower case, usable as Kafka key, file name and metric label; the wire format's rule. */
+    public static final Pattern EXPERIMENT_ID = dev.stopline.wire.SnapshotParser.EXPERIMENT_ID;
     /** Arm and metric names. */
-    public static final Pattern NAME = Pattern.compile("[A-Za-z0-9][A-Za-z0-9._-]{0,127}");
+    public static final Pattern NAME = dev.stopline.wire.SnapshotParser.NAME;
     /** Allowed rounding when allocation weights are summed (1/3 + 1/3 + 1/3 written to 16 digits). */
     public static final double SUM_TOLERANCE = 1e-9;
     static final int MAX_DESCRIPTION = 4000;

@@ -6,6 +6,7 @@ import static dev.stopline.service.web.Html.prob;
 import static dev.stopline.service.web.Html.raw;
 import static dev.stopline.service.web.Html.time;
 
+import dev.stopline.monitor.ExperimentMonitor;
 import dev.stopline.monitor.Decision;
 import dev.stopline.monitor.LookRecord;
 import dev.stopline.monitor.SampleRatioRecord;
@@ -330,10 +331,8 @@ public final class StatusPages {
      */
     static BoundaryChart.Bound waldBound(Primary p, LookRecord l) {
         Double se = l.standardError();
-        double delta1 = p.sprt() != null && p.sprt().minimumEffect() != null ? p.sprt().minimumEffect()
-                : p.minimumEffect() == null ? Double.NaN : p.minimumEffect();
-        double beta = p.sprt() != null && p.sprt().beta() != null ? p.sprt().beta()
-                : 1 - (p.power() != null ? p.power() : 0.8);
+        double delta1 = ExperimentMonitor.waldDelta1(p);
+        double beta = ExperimentMonitor.waldBeta(p);
         if (se == null || !(se > 0) || !Double.isFinite(delta1) || delta1 == 0) {
             return new BoundaryChart.Bound(l.informationFraction(), Double.NaN, Double.NaN);
         }
