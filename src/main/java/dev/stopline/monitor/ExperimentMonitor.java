@@ -101,6 +101,25 @@ public final class ExperimentMonitor {
         return new ExperimentMonitor(plan, planVersion);
     }
 
+    private ExperimentMonitor(ExperimentMonitor same, int planVersion) {
+        this.plan = same.plan;
+        this.planVersion = planVersion;
+        this.treatment = same.treatment;
+        this.design = same.design;
+        this.planned = same.planned;
+        this.plannedFractions = same.plannedFractions;
+        this.sizing = same.sizing;
+        this.sampleRatio = same.sampleRatio;
+    }
+
+    /**
+     * The same monitor for another version of the same plan, without computing the boundaries again
+     * (they depend only on the plan; the parts shared are immutable).
+     */
+    public ExperimentMonitor atVersion(int version) {
+        return version == planVersion ? this : new ExperimentMonitor(this, version);
+    }
+
     /** The group-sequential design a plan describes (power from the plan, or 1 - beta, for futility and sizing). */
     public static Design designOf(Primary p) {
         Design d = Design.of(p.alpha(), p.sides())
