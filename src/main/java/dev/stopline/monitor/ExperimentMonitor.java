@@ -26,6 +26,7 @@ import dev.stopline.stats.sprt.SprtDecision;
 import dev.stopline.stats.sprt.WaldSprt;
 import dev.stopline.wire.ArmCounts;
 import dev.stopline.wire.MetricSums;
+import dev.stopline.wire.PlanShape;
 import dev.stopline.wire.Snapshot;
 import java.util.ArrayList;
 import java.util.HashMap;
@@ -76,6 +77,7 @@ public final class ExperimentMonitor {
     private final PlanSizing sizing;
     private final SampleRatioCheck sampleRatio;
     private final double[] plannedFractions;
+    private final PlanShape shape;
 
     private ExperimentMonitor(Plan plan, int planVersion) {
         this.plan = plan;
@@ -94,6 +96,7 @@ public final class ExperimentMonitor {
         this.sizing = PlanSizing.of(plan, planned);
         double[] weights = plan.allocation().values().stream().mapToDouble(Double::doubleValue).toArray();
         this.sampleRatio = SampleRatioCheck.withWeights(weights).withThreshold(plan.sampleRatio().alpha());
+        this.shape = new PlanShape(plan.arms(), plan.metrics());
     }
 
     /** A monitor for a validated plan at the given version. */
@@ -110,6 +113,7 @@ public final class ExperimentMonitor {
         this.plannedFractions = same.plannedFractions;
         this.sizing = same.sizing;
         this.sampleRatio = same.sampleRatio;
+        this.shape = same.shape;
     }
 
     /**
@@ -143,6 +147,11 @@ public final class ExperimentMonitor {
 
     public int planVersion() {
         return planVersion;
+    }
+
+    /** The arms and metrics every snapshot of this experiment must carry. */
+    public PlanShape shape() {
+        return shape;
     }
 
     /** The planned boundaries (group-sequential primaries), or null. */

@@ -194,16 +194,26 @@ public final class IngestBenchmark {
             throw new IllegalStateException("the daemon had processed " + first + " snapshots when it became ready, "
                     + "past the warm-up of " + warmCount + ": raise -Dbench.warmupRounds");
         }
-        long tWarm = awaitProcessed(daemon, warmCount, Duration.ofSeconds(600), 20);
-        long tEnd = awaitProcessed(daemon, total, Duration.ofSeconds(1200), 20);
+        // One partition, handled in order: the last experiment reaching a round means every record before
+        // it is done. Asking for one experiment every 10 ms costs the daemon far less than a metrics scrape.
+        String last = tpId(s.experiments() - 1);
+        long tWarm = awaitSequence(daemon, last, s.warmupRounds(), Duration.ofSeconds(600));
+        long cpuWarm = processCpuNanos(daemon.pid());
+        long tEnd = awaitSequence(daemon, last, s.warmupRounds() + s.rounds(), Duration.ofSeconds(1200));
+        long cpuEnd = processCpuNanos(daemon.pid());
+        awaitProcessed(daemon, total, Duration.ofSeconds(60), 200);
         long m = total - warmCount;
         double daemonRate = m / seconds(tEnd - tWarm);
         Map<String, Double> outcomes = snapshotOutcomes(daemon);
-        double bareRate = bareConsumerRate(servers, backlog.start(), backlog.warm(), backlog.end());
+        long[] bare = bareConsumer(servers, backlog.start(), backlog.warm(), backlog.end());
+        double bareRate = m / seconds(bare[0]);
         report.add(String.format(Locale.ROOT, "  daemon end to end, timed part: %d snapshots in %.2f s = %.0f "
                 + "snapshots/s; outcomes %s, dead letters %s", m, seconds(tEnd - tWarm), daemonRate, outcomes,
                 deadLettersByReason(daemon)));
-        report.add(String.format(Locale.ROOT, "  bare KafkaConsumer, same %d records: %.0f records/s", m, bareRate));
+        report.add(String.format(Locale.ROOT, "  daemon CPU (all threads, /proc) per snapshot: %.1f us", 
+                (cpuEnd - cpuWarm) / 1e3 / m));
+        report.add(String.format(Locale.ROOT, "  bare KafkaConsumer, same %d records: %.0f records/s, CPU of its "
+                + "thread per record %.1f us", m, bareRate, bare[1] / 1e3 / m));
         report.add(String.format(Locale.ROOT, "  ratio daemon / bare consumer: %.3f (target >= 0.5: %s)",
                 daemonRate / bareRate, daemonRate / bareRate >= 0.5 ? "met" : "missed"));
     }
@@ -236,26 +246,44 @@ public final class IngestBenchmark {
         producer.flush();
     }
 
-    /** Records per second of a plain consumer over offsets [start, end), after reading [warm, start) once. */
-    private static double bareConsumerRate(String servers, long warm, long start, long end) {
+    /**
+     * A plain consumer over offsets [start, end) after reading [warm, start) once: returns the wall
+     * nanoseconds and the CPU nanoseconds of the reading thread for the timed part.
+     */
+    private static long[] bareConsumer(String servers, long warm, long start, long end) {
         Properties p = new Properties();
         p.put("bootstrap.servers", servers);
         p.put("key.deserializer", StringDeserializer.class.getName());
         p.put("value.deserializer", ByteArrayDeserializer.class.getName());
         p.put("enable.auto.commit", "false");
         TopicPartition tp = new TopicPartition(COUNTS, 0);
+        java.lang.management.ThreadMXBean threads = java.lang.management.ManagementFactory.getThreadMXBean();
         try (KafkaConsumer<String, byte[]> c = new KafkaConsumer<>(p)) {
             c.assign(List.of(tp));
             c.seek(tp, warm);
             readUntil(c, start);
             c.seek(tp, start);
+            long cpu0 = threads.getCurrentThreadCpuTime();
             long t0 = System.nanoTime();
             long bytes = readUntil(c, end);
             long elapsed = System.nanoTime() - t0;
+            long cpu = threads.getCurrentThreadCpuTime() - cpu0;
             if (bytes <= 0) {
                 throw new IllegalStateException("bare consumer read nothing");
             }
-            return (end - start) / seconds(elapsed);
+            return new long[] {elapsed, cpu};
+        }
+    }
+
+    /** User + system CPU time of a process so far, from {@code /proc/<pid>/stat} (Linux; clock ticks of 10 ms). */
+    private static long processCpuNanos(long pid) {
+        try {
+            String stat = Files.readString(Path.of("/proc", Long.toString(pid), "stat"));
+            String[] f = stat.substring(stat.lastIndexOf(')') + 2).split(" ");
+            long ticks = Long.parseLong(f[11]) + Long.parseLong(f[12]); // fields 14 and 15 of proc(5)
+            return ticks * 10_000_000L;
+        } catch (IOException e) {
+            return 0;
         }
     }
 
@@ -504,6 +532,23 @@ public final class IngestBenchmark {
             Thread.sleep(pollMillis);
         }
         return System.nanoTime();
+    }
+
+    /** Polls every 10 ms until the experiment's last evaluated sequence reaches {@code sequence}; returns the time then. */
+    private static long awaitSequence(DaemonProcess daemon, String experiment, long sequence, Duration max)
+            throws InterruptedException {
+        Pattern lastSequence = Pattern.compile("\"lastSequence\"\\s*:\\s*(\\d+)");
+        long deadline = System.nanoTime() + max.toNanos();
+        while (true) {
+            Matcher m = lastSequence.matcher(daemon.getBody("/api/experiments/" + experiment));
+            if (m.find() && Long.parseLong(m.group(1)) >= sequence) {
+                return System.nanoTime();
+            }
+            if (System.nanoTime() > deadline) {
+                throw new IllegalStateException(experiment + " did not reach sequence " + sequence + " within " + max);
+            }
+            Thread.sleep(10);
+        }
     }
 
     private static Map<String, Double> snapshotOutcomes(DaemonProcess daemon) {
