@@ -1,0 +1,511 @@
+package dev.stopline.bench;
+
+import static dev.stopline.bench.BenchSupport.millis;
+import static dev.stopline.bench.BenchSupport.percentile;
+import static dev.stopline.bench.BenchSupport.seconds;
+
+import com.fasterxml.jackson.databind.JsonNode;
+import com.fasterxml.jackson.databind.ObjectMapper;
+import dev.stopline.bench.BenchSupport.Arrival;
+import dev.stopline.bench.BenchSupport.Scrape;
+import dev.stopline.bench.BenchSupport.TopicReader;
+import dev.stopline.service.broker.EmbeddedKafka;
+import dev.stopline.testing.DaemonProcess;
+import dev.stopline.testing.FreePorts;
+import dev.stopline.testing.KafkaBrokerExtension;
+import dev.stopline.testing.Oracle;
+import java.io.IOException;
+import java.nio.file.Files;
+import java.nio.file.Path;
+import java.time.Duration;
+import java.time.LocalTime;
+import java.util.ArrayList;
+import java.util.List;
+import java.util.Locale;
+import java.util.Map;
+import java.util.Set;
+import java.util.SplittableRandom;
+import java.util.TreeMap;
+import java.util.TreeSet;
+import java.util.concurrent.atomic.AtomicBoolean;
+import java.util.concurrent.atomic.AtomicLong;
+import org.apache.kafka.clients.producer.KafkaProducer;
+import org.apache.kafka.clients.producer.ProducerRecord;
+
+/**
+ * Load test and soak of the packaged daemon on loopback: a real embedded broker in this JVM, the daemon
+ * ({@code quarkus-run.jar serve}) as a separate process on an H2 file database (or the database of
+ * {@code -Dload.jdbc=...}), fed the bookshop fleet of {@link LoadStream}: {@code load.experiments} plans
+ * (group-sequential and mixture SPRT, a third with a guardrail) written to a plans directory and
+ * registered at start, and their snapshots on one partition of {@code stopline.counts}.
+ *
+ * <p><b>Load</b> ({@code load.soakMinutes} 0, the default): {@code load.snapshots} snapshots in rounds
+ * (each round one snapshot of every experiment), produced as fast as the producer goes (or at
+ * {@code load.rate} snapshots/s). Figures: the time to register the plan files; snapshots/s end to end,
+ * from the first send until the last experiment's last snapshot is evaluated (one partition, so every
+ * record before it is done); produce-to-alert latency of every alert raised during the load, from just
+ * before {@code send} of the snapshot that crossed to the CloudEvent's arrival on {@code stopline.alerts}
+ * in this JVM (one clock; unpaced, it includes the time the snapshot queued behind the ones produced
+ * before it); dead letters (must be 0); used heap after {@code jcmd GC.run}; and, for a seeded sample of
+ * experiments, the primary looks and alerts the daemon stored against {@link Oracle} (the pure evaluator
+ * over the same stream).
+ *
+ * <p><b>Soak</b> ({@code load.soakMinutes} N > 0): a steady stream at {@code load.soakRate} snapshots/s for
+ * N minutes, then it stops by itself. Every {@code load.sampleSeconds} (30) the daemon's used heap after
+ * {@code jcmd GC.run} and its lag (records produced but not yet processed); at the end the series, the
+ * least-squares slope of heap against time (MiB/min) over all samples and over the second half, and the
+ * verdict "flat" when the second-half slope is below {@code load.flatMiBPerMin} (1 MiB/min); also the
+ * consumer group's committed-offset lag when the stream stops and the produce-to-alert latency of the
+ * alerts raised (paced, so without the queueing of the load).
+ *
+ * <p>Bounded: every wait has a deadline; the daemon is stopped and the temporary directory deleted at the
+ * end ({@code -Dload.keep=true} keeps it). Not part of the test run (a {@code main}, no {@code @Test}); run
+ * it as DEVELOPERS.md says under "Load and soak".
+ */
+public final class LoadBenchmark {
+    private static final String COUNTS = "stopline.counts";
+    private static final String ALERTS = "stopline.alerts";
+    private static final String GROUP = "stopline";
+    private static final ObjectMapper JSON = new ObjectMapper();
+
+    private LoadBenchmark() {
+    }
+
+    /** What the run does; each from a system property of the same name with the prefix {@code load.}. */
+    record Settings(int experiments, long snapshots, double rate, int oracleSample, int soakMinutes,
+                    double soakRate, int sampleSeconds, double flatMiBPerMin, String xmx, String jdbc, long seed,
+                    boolean keep) {
+        static Settings fromSystemProperties() {
+            return new Settings(Integer.getInteger("load.experiments", 10_000),
+                    Long.getLong("load.snapshots", 1_000_000L),
+                    Double.parseDouble(System.getProperty("load.rate", "0")),
+                    Integer.getInteger("load.oracleSample", 100),
+                    Integer.getInteger("load.soakMinutes", 0),
+                    Double.parseDouble(System.getProperty("load.soakRate", "500")),
+                    Integer.getInteger("load.sampleSeconds", 30),
+                    Double.parseDouble(System.getProperty("load.flatMiBPerMin", "1.0")),
+                    System.getProperty("load.xmx", "1g"),
+                    System.getProperty("load.jdbc", ""),
+                    Long.getLong("load.seed", 20270315L),
+                    Boolean.getBoolean("load.keep"));
+        }
+
+        boolean soak() {
+            return soakMinutes > 0;
+        }
+
+        /** Rounds of the stream: snapshots per experiment (the load), or what the soak's rate gives. */
+        int rounds() {
+            long n = soak() ? (long) Math.ceil(soakRate * 60.0 * soakMinutes / experiments) : snapshots / experiments;
+            if (n < 1 || n > Integer.MAX_VALUE / 2) {
+                throw new IllegalArgumentException("rounds " + n + " out of range: need snapshots >= experiments");
+            }
+            return (int) n;
+        }
+    }
+
+    public static void main(String[] args) throws Exception {
+        Settings s = Settings.fromSystemProperties();
+        int rounds = s.rounds();
+        if (System.getProperty("stopline.daemon.ready-seconds") == null) {
+            // registering 10,000 plan files took 51 to 173 s on 2 shared cores
+            System.setProperty("stopline.daemon.ready-seconds", "900");
+        }
+        KafkaBrokerExtension.trapExit();
+        KafkaBrokerExtension.quietKafkaLogging();
+        Path dir = Files.createTempDirectory("stopline-load-");
+        List<String> report = new ArrayList<>();
+        report.add("load average (1 / 5 / 15 min) at start: " + BenchSupport.loadAverage());
+        int[] ports = FreePorts.pickTwo();
+        Path log = dir.resolve("daemon.log");
+        try (EmbeddedKafka broker = EmbeddedKafka.builder().port(ports[0]).controllerPort(ports[1])
+                .dataDir(dir.resolve("kafka")).topic(COUNTS, 1).topic(ALERTS, 1).topic("stopline.counts.dlq", 1)
+                .build().start()) {
+            String servers = broker.bootstrapServers();
+            Path plans = Files.createDirectories(dir.resolve("plans"));
+            for (int i = 0; i < s.experiments(); i++) {
+                Files.writeString(plans.resolve(LoadStream.id(i) + ".yaml"), LoadStream.plan(i, rounds));
+            }
+            String jdbc = s.jdbc().isBlank()
+                    ? "jdbc:h2:file:" + dir.resolve("db").resolve("stopline").toAbsolutePath() : s.jdbc();
+            long t0 = System.nanoTime();
+            try (DaemonProcess daemon = DaemonProcess.serve(List.of("-Xmx" + s.xmx()), List.of("--bootstrap-servers",
+                    servers, "--jdbc-url", jdbc, "--plans-dir", plans.toString()), log)) {
+                double ready = seconds(System.nanoTime() - t0);
+                report.add(String.format(Locale.ROOT, "daemon ready in %.1f s (JVM start, migrations, %d plan files "
+                                + "registered, consumer subscribed); registering the plans, from the daemon's log: %s; "
+                                + "database %s; -Xmx%s", ready, s.experiments(), registrationSeconds(log),
+                        s.jdbc().isBlank() ? "H2 file" : s.jdbc().replaceAll("password=[^&;]*", "password=..."), s.xmx()));
+                report.add(String.format(Locale.ROOT, "fleet: %d experiments (%d group-sequential, %d mixture SPRT, %d "
+                                + "with a guardrail; scenarios %s), %d rounds", s.experiments(),
+                        count(s, LoadStream::groupSequential), s.experiments() - count(s, LoadStream::groupSequential),
+                        count(s, LoadStream::guarded), scenarioCounts(s), rounds));
+                if (s.soak()) {
+                    soak(s, rounds, servers, daemon, report);
+                } else {
+                    load(s, rounds, servers, daemon, report);
+                }
+                daemon.terminate(Duration.ofSeconds(30));
+            } catch (RuntimeException e) {
+                System.err.println("daemon log tail:\n" + BenchSupport.tail(log, 40));
+                throw e;
+            }
+        } finally {
+            report.add("load average (1 / 5 / 15 min) at end: " + BenchSupport.loadAverage());
+            System.out.println();
+            System.out.println(s.soak() ? "== Stopline soak ==" : "== Stopline load test ==");
+            report.forEach(System.out::println);
+            if (s.keep()) {
+                System.out.println("kept " + dir);
+            } else {
+                KafkaBrokerExtension.deleteTree(dir);
+            }
+        }
+        System.exit(0); // the broker's and clients' non-daemon threads are gone, but be sure
+    }
+
+    // ------------------------------------------------------------------ load
+
+    private static void load(Settings s, int rounds, String servers, DaemonProcess daemon, List<String> report)
+            throws Exception {
+        long total = (long) s.experiments() * rounds;
+        long[] sentAt = new long[Math.toIntExact(total)];
+        LoadStream.Feed[] feeds = new LoadStream.Feed[s.experiments()];
+        for (int i = 0; i < feeds.length; i++) {
+            feeds[i] = LoadStream.feed(s.seed(), i, rounds);
+        }
+        long before = Scrape.of(daemon).processed();
+        AtomicLong sent = new AtomicLong();
+        long t0;
+        long producedNanos;
+        long tEnd;
+        try (TopicReader alerts = TopicReader.start(servers, ALERTS);
+             KafkaProducer<String, String> producer = BenchSupport.producer(servers, 5)) {
+            AtomicBoolean done = new AtomicBoolean();
+            long[] producerEnd = new long[1];
+            t0 = System.nanoTime();
+            Thread feeder = new Thread(() -> {
+                for (int k = 0; k < rounds; k++) {
+                    for (int i = 0; i < feeds.length; i++) {
+                        pace(s.rate(), sent.get(), t0);
+                        String value = feeds[i].next();
+                        sentAt[i * rounds + k] = System.nanoTime();
+                        producer.send(new ProducerRecord<>(COUNTS, LoadStream.id(i), value));
+                        sent.incrementAndGet();
+                    }
+                }
+                producer.flush();
+                producerEnd[0] = System.nanoTime();
+                done.set(true);
+            }, "load-producer");
+            feeder.start();
+            String last = LoadStream.id(s.experiments() - 1);
+            long nextProgress = t0 + Duration.ofSeconds(10).toNanos();
+            long deadline = t0 + Duration.ofMinutes(120).toNanos();
+            while (!(done.get() && reached(daemon, last, rounds))) {
+                if (System.nanoTime() > deadline) {
+                    throw new IllegalStateException("load not done within 120 min: " + sent.get() + " sent");
+                }
+                if (System.nanoTime() > nextProgress) {
+                    long processed = Scrape.of(daemon).processed() - before;
+                    System.out.printf(Locale.ROOT, "%6.0f s: %,d sent, %,d processed%n",
+                            seconds(System.nanoTime() - t0), sent.get(), processed);
+                    nextProgress += Duration.ofSeconds(10).toNanos();
+                }
+                Thread.sleep(50);
+            }
+            tEnd = System.nanoTime();
+            feeder.join();
+            producedNanos = producerEnd[0] - t0;
+            BenchSupport.awaitProcessed(daemon, before + total, Duration.ofSeconds(60), 200);
+            report.add(String.format(Locale.ROOT, "load: %,d snapshots (%d experiments x %d rounds), %s; produced in %.1f s",
+                    total, s.experiments(), rounds, s.rate() > 0 ? "paced at " + s.rate() + "/s" : "unpaced",
+                    seconds(producedNanos)));
+            report.add(String.format(Locale.ROOT, "  end to end (first send to last snapshot evaluated): %.1f s = %,.0f "
+                    + "snapshots/s", seconds(tEnd - t0), total / seconds(tEnd - t0)));
+            Scrape scrape = Scrape.of(daemon);
+            report.add(String.format(Locale.ROOT, "  outcomes %s; dead letters %.0f (must be 0: %s); alerts raised %s",
+                    scrape.snapshotOutcomes(), scrape.deadLetters(), scrape.deadLetters() == 0 ? "met" : "MISSED",
+                    scrape.byLabel("stopline_alerts_total", "kind")));
+            report.add(latency(alerts, scrape.alertsRaised(), sentAt, rounds, tEnd));
+        }
+        report.add(oracleCheck(s, rounds, daemon));
+        report.add(String.format(Locale.ROOT, "  used heap after jcmd GC.run at the end: %.1f MiB "
+                + "(jvm_memory_used_bytes{area=\"heap\"}, -Xmx%s)", BenchSupport.heapAfterGcMiB(daemon), s.xmx()));
+    }
+
+    /** Whether the experiment's last evaluated sequence has reached {@code sequence}. */
+    private static boolean reached(DaemonProcess daemon, String experiment, long sequence) {
+        try {
+            JsonNode n = JSON.readTree(daemon.getBody("/api/experiments/" + experiment));
+            return n.path("summary").path("lastSequence").asLong(-1) >= sequence;
+        } catch (IOException | RuntimeException e) {
+            return false;
+        }
+    }
+
+    /** Sleeps while {@code sent} is ahead of {@code rate} snapshots per second since {@code t0} (rate 0: never). */
+    private static void pace(double rate, long sent, long t0) {
+        if (rate <= 0) {
+            return;
+        }
+        long due = t0 + (long) (sent / rate * 1e9);
+        long wait = due - System.nanoTime();
+        if (wait > 1_000_000) {
+            try {
+                Thread.sleep(wait / 1_000_000);
+            } catch (InterruptedException e) {
+                Thread.currentThread().interrupt();
+            }
+        }
+    }
+
+    /**
+     * Waits until every alert the daemon counts has arrived on the alert topic (distinct CloudEvent ids;
+     * delivery is at least once), then the produce-to-alert latencies: arrival minus the send time of the
+     * snapshot that crossed ({@code data.experiment}, {@code data.sequence}).
+     */
+    private static String latency(TopicReader reader, double raised, long[] sentAt, int rounds, long windowEnd)
+            throws InterruptedException {
+        Map<String, Long> arrivals = new TreeMap<>();
+        List<Long> latencies = new ArrayList<>();
+        Map<String, Integer> kinds = new TreeMap<>();
+        long deadline = System.nanoTime() + Duration.ofSeconds(120).toNanos();
+        int duplicates = 0;
+        int foreign = 0;
+        while (arrivals.size() < raised && System.nanoTime() < deadline) {
+            Thread.sleep(100);
+            for (Arrival a : reader.drain()) {
+                JsonNode event;
+                try {
+                    event = JSON.readTree(a.value());
+                } catch (IOException e) {
+                    foreign++;
+                    continue;
+                }
+                String id = event.path("id").asText();
+                if (arrivals.putIfAbsent(id, a.nanos()) != null) {
+                    duplicates++;
+                    continue;
+                }
+                JsonNode data = event.path("data");
+                int i = LoadStream.index(data.path("experiment").asText());
+                long seq = data.path("sequence").asLong(0);
+                if (i < 0 || seq < 1 || seq > rounds || sentAt[i * rounds + (int) seq - 1] == 0) {
+                    foreign++;
+                    continue;
+                }
+                latencies.add(a.nanos() - sentAt[i * rounds + (int) seq - 1]);
+                kinds.merge(data.path("kind").asText("?"), 1, Integer::sum);
+            }
+        }
+        if (latencies.isEmpty()) {
+            return String.format(Locale.ROOT, "  produce-to-alert: no alert arrived (%.0f raised)", raised);
+        }
+        long[] sorted = latencies.stream().mapToLong(Long::longValue).sorted().toArray();
+        long afterWindow = arrivals.values().stream().filter(t -> t > windowEnd).count();
+        return String.format(Locale.ROOT, "  produce-to-alert latency over %d alerts (%.0f raised; %s; %d duplicate "
+                        + "deliveries, %d unmatched; %d arrived after the last snapshot was evaluated): p50 %.0f ms, p99 %.0f ms, "
+                        + "max %.0f ms", sorted.length, raised, kinds, duplicates, foreign, afterWindow,
+                millis(percentile(sorted, 0.5)), millis(percentile(sorted, 0.99)), millis(sorted[sorted.length - 1]));
+    }
+
+    /**
+     * For a seeded sample of experiments: the primary looks and the alert ids the daemon stored, against
+     * the pure evaluator over the same stream drawn again.
+     */
+    private static String oracleCheck(Settings s, int rounds, DaemonProcess daemon) {
+        int n = Math.min(s.oracleSample(), s.experiments());
+        int[] sample = new SplittableRandom(s.seed() ^ 0x5DEECE66DL).ints(0, s.experiments()).distinct().limit(n)
+                .sorted().toArray();
+        int looksMatched = 0;
+        int alertsMatched = 0;
+        long looks = 0;
+        long alerts = 0;
+        List<String> mismatches = new ArrayList<>();
+        for (int i : sample) {
+            LoadStream.Feed feed = LoadStream.feed(s.seed(), i, rounds);
+            List<String> lines = new ArrayList<>(rounds);
+            for (int k = 0; k < rounds; k++) {
+                lines.add(feed.next());
+            }
+            String id = LoadStream.id(i);
+            Oracle expected = Oracle.of(LoadStream.plan(i, rounds), id, lines);
+            List<Long> storedLooks = daemon.primaryLookSequences(id);
+            Set<String> storedAlerts = new TreeSet<>(daemon.alertIds(id));
+            looks += expected.primaryLookSequences().size();
+            alerts += expected.alertIds().size();
+            if (storedLooks.equals(expected.primaryLookSequences())) {
+                looksMatched++;
+            } else if (mismatches.size() < 5) {
+                mismatches.add(id + " looks " + storedLooks + " expected " + expected.primaryLookSequences());
+            }
+            if (storedAlerts.equals(new TreeSet<>(expected.alertIds()))) {
+                alertsMatched++;
+            } else if (mismatches.size() < 5) {
+                mismatches.add(id + " alerts " + storedAlerts + " expected " + expected.alertIds());
+            }
+        }
+        return String.format(Locale.ROOT, "  oracle, %d sampled experiments (%d primary looks, %d alerts expected): "
+                        + "primary looks equal in %d, alert ids equal in %d (%s)%s", n, looks, alerts, looksMatched,
+                alertsMatched, looksMatched == n && alertsMatched == n ? "met" : "MISSED",
+                mismatches.isEmpty() ? "" : "; first differences: " + mismatches);
+    }
+
+    // ------------------------------------------------------------------ soak
+
+    private record Sample(double minutes, double heapMiB, long processed, long lag) {
+    }
+
+    private static void soak(Settings s, int rounds, String servers, DaemonProcess daemon, List<String> report)
+            throws Exception {
+        long[] sentAt = new long[Math.toIntExact((long) s.experiments() * rounds)];
+        LoadStream.Feed[] feeds = new LoadStream.Feed[s.experiments()];
+        for (int i = 0; i < feeds.length; i++) {
+            feeds[i] = LoadStream.feed(s.seed(), i, rounds);
+        }
+        long startOffset = BenchSupport.endOffset(servers, COUNTS);
+        long processedBefore = Scrape.of(daemon).processed();
+        long duration = Duration.ofMinutes(s.soakMinutes()).toNanos();
+        AtomicLong sent = new AtomicLong();
+        AtomicBoolean stop = new AtomicBoolean();
+        List<Sample> series = new ArrayList<>();
+        try (TopicReader alerts = TopicReader.start(servers, ALERTS);
+             KafkaProducer<String, String> producer = BenchSupport.producer(servers, 5)) {
+            series.add(sample(daemon, servers, 0, startOffset, processedBefore));
+            long t0 = System.nanoTime();
+            Thread feeder = new Thread(() -> {
+                for (int j = 0; j < sentAt.length && !stop.get() && System.nanoTime() - t0 < duration; j++) {
+                    pace(s.soakRate(), j, t0);
+                    int i = j % feeds.length;
+                    int k = j / feeds.length;
+                    String value = feeds[i].next();
+                    sentAt[i * rounds + k] = System.nanoTime();
+                    producer.send(new ProducerRecord<>(COUNTS, LoadStream.id(i), value));
+                    sent.incrementAndGet();
+                }
+                producer.flush();
+            }, "soak-producer");
+            feeder.start();
+            long period = Duration.ofSeconds(s.sampleSeconds()).toNanos();
+            for (long next = t0 + period; next <= t0 + duration; next += period) {
+                Thread.sleep(Math.max(0, (next - System.nanoTime()) / 1_000_000));
+                Sample x = sample(daemon, servers, seconds(System.nanoTime() - t0) / 60, startOffset, processedBefore);
+                series.add(x);
+                System.out.printf(Locale.ROOT, "%5.1f min: heap after GC %.1f MiB, %,d processed, lag %,d%n",
+                        x.minutes(), x.heapMiB(), x.processed(), x.lag());
+            }
+            feeder.join(Duration.ofSeconds(60).toMillis());
+            stop.set(true);
+            feeder.join();
+            long produced = sent.get();
+            long endOffset = BenchSupport.endOffset(servers, COUNTS);
+            long committedLag = endOffset - BenchSupport.committedOffset(servers, GROUP, COUNTS);
+            long processedLag = endOffset - startOffset - (Scrape.of(daemon).processed() - processedBefore);
+            long tStop = System.nanoTime();
+            BenchSupport.awaitProcessed(daemon, processedBefore + produced, Duration.ofMinutes(30), 200);
+            double drain = seconds(System.nanoTime() - tStop);
+            Scrape scrape = Scrape.of(daemon);
+            report.add(String.format(Locale.ROOT, "soak: %d min at %.0f snapshots/s: %,d snapshots produced (%.1f rounds of "
+                            + "%d experiments)", s.soakMinutes(), s.soakRate(), produced,
+                    produced / (double) s.experiments(), s.experiments()));
+            report.add(String.format(Locale.ROOT, "  lag when the stream stopped: %,d records not yet processed; %,d "
+                    + "behind the group's committed offset (commits are throttled); drained in %.1f s", processedLag,
+                    committedLag, drain));
+            report.add(String.format(Locale.ROOT, "  outcomes %s; dead letters %.0f (must be 0: %s); alerts raised %s",
+                    scrape.snapshotOutcomes(), scrape.deadLetters(), scrape.deadLetters() == 0 ? "met" : "MISSED",
+                    scrape.byLabel("stopline_alerts_total", "kind")));
+            report.add(latency(alerts, scrape.alertsRaised(), sentAt, rounds, System.nanoTime()));
+        }
+        report.add("  used heap after jcmd GC.run (MiB), lag (records) every " + s.sampleSeconds() + " s:");
+        for (Sample x : series) {
+            report.add(String.format(Locale.ROOT, "    %5.2f min  %7.1f MiB  %,10d processed  lag %,d", x.minutes(),
+                    x.heapMiB(), x.processed(), x.lag()));
+        }
+        double all = slope(series);
+        double secondHalf = slope(series.stream().filter(x -> x.minutes() >= s.soakMinutes() / 2.0).toList());
+        report.add(String.format(Locale.ROOT, "  least-squares slope of used heap: %.2f MiB/min over all %d samples, %.2f "
+                        + "MiB/min over the second half; verdict: %s (flat = second-half slope below %.1f MiB/min)", all,
+                series.size(), secondHalf, secondHalf < s.flatMiBPerMin() ? "flat" : "GROWING", s.flatMiBPerMin()));
+    }
+
+    private static Sample sample(DaemonProcess daemon, String servers, double minutes, long startOffset,
+                                 long processedBefore) {
+        BenchSupport.jcmd(daemon.pid(), "GC.run");
+        Scrape scrape = Scrape.of(daemon);
+        long processed = scrape.processed() - processedBefore;
+        long produced = BenchSupport.endOffset(servers, COUNTS) - startOffset;
+        return new Sample(minutes, scrape.heapUsedBytes() / (1024.0 * 1024.0), processed, produced - processed);
+    }
+
+    /** Least-squares slope of heap (MiB) on time (minutes); NaN with fewer than two samples. */
+    static double slope(List<Sample> xs) {
+        int n = xs.size();
+        if (n < 2) {
+            return Double.NaN;
+        }
+        double mx = xs.stream().mapToDouble(Sample::minutes).average().orElseThrow();
+        double my = xs.stream().mapToDouble(Sample::heapMiB).average().orElseThrow();
+        double sxy = 0;
+        double sxx = 0;
+        for (Sample x : xs) {
+            sxy += (x.minutes() - mx) * (x.heapMiB() - my);
+            sxx += (x.minutes() - mx) * (x.minutes() - mx);
+        }
+        return sxy / sxx;
+    }
+
+    // ------------------------------------------------------------------ fleet description and the daemon's log
+
+    private static int count(Settings s, java.util.function.IntPredicate p) {
+        int n = 0;
+        for (int i = 0; i < s.experiments(); i++) {
+            n += p.test(i) ? 1 : 0;
+        }
+        return n;
+    }
+
+    private static Map<LoadStream.Scenario, Integer> scenarioCounts(Settings s) {
+        Map<LoadStream.Scenario, Integer> out = new TreeMap<>();
+        for (int i = 0; i < s.experiments(); i++) {
+            out.merge(LoadStream.scenario(i), 1, Integer::sum);
+        }
+        return out;
+    }
+
+    /**
+     * The time between the daemon's first log line and its "N stopping plans active" line (both stamped
+     * HH:mm:ss.SSS by the log format), i.e. start-up up to the end of plan registration.
+     */
+    private static String registrationSeconds(Path log) {
+        try {
+            List<String> lines = Files.readAllLines(log);
+            LocalTime first = null;
+            for (String line : lines) {
+                LocalTime t = stamp(line);
+                if (t != null && first == null) {
+                    first = t;
+                }
+                if (t != null && line.contains("stopping plans active")) {
+                    double s = Duration.between(first, t).toMillis() / 1000.0;
+                    return String.format(Locale.ROOT, "%.1f s from the first log line to \"%s\"", s < 0 ? s + 86_400 : s,
+                            line.substring(line.lastIndexOf(']') + 2));
+                }
+            }
+            return "(no \"stopping plans active\" line in the log)";
+        } catch (IOException e) {
+            return "(no log: " + e.getMessage() + ")";
+        }
+    }
+
+    private static LocalTime stamp(String line) {
+        if (line.length() < 12 || line.charAt(2) != ':' || line.charAt(8) != '.') {
+            return null;
+        }
+        try {
+            return LocalTime.parse(line.substring(0, 12));
+        } catch (RuntimeException e) {
+            return null;
+        }
+    }
+}
