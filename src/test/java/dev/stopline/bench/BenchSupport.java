@@ -54,7 +54,7 @@ final class BenchSupport {
         double sum(String name, String labelFilter) {
             double sum = 0;
             for (String line : text.split("\n")) {
-                if (line.startsWith(name + "{") && line.contains(labelFilter)) {
+                if ((line.startsWith(name + "{") || line.startsWith(name + " ")) && line.contains(labelFilter)) {
                     sum += value(line);
                 }
             }
@@ -96,6 +96,15 @@ final class BenchSupport {
         /** The sum of {@code jvm_memory_used_bytes{area="heap"}} over the heap pools. */
         double heapUsedBytes() {
             return sum("jvm_memory_used_bytes", "area=\"heap\"");
+        }
+
+        /**
+         * {@code jvm_gc_live_data_size_bytes}: the old generation right after the last major collection.
+         * After {@code jcmd GC.run} (a full collection) it is the live heap, untouched by what the daemon
+         * allocates between the collection and the scrape, which {@link #heapUsedBytes} counts.
+         */
+        double liveAfterGcBytes() {
+            return sum("jvm_gc_live_data_size_bytes", "");
         }
 
         private static double value(String metricLine) {

@@ -51,12 +51,17 @@ import org.apache.kafka.clients.producer.ProducerRecord;
  * over the same stream).
  *
  * <p><b>Soak</b> ({@code load.soakMinutes} N > 0): a steady stream at {@code load.soakRate} snapshots/s for
- * N minutes, then it stops by itself. Every {@code load.sampleSeconds} (30) the daemon's used heap after
- * {@code jcmd GC.run} and its lag (records produced but not yet processed); at the end the series, the
- * least-squares slope of heap against time (MiB/min) over all samples and over the second half, and the
- * verdict "flat" when the second-half slope is below {@code load.flatMiBPerMin} (1 MiB/min); also the
- * consumer group's committed-offset lag when the stream stops and the produce-to-alert latency of the
- * alerts raised (paced, so without the queueing of the load).
+ * N minutes, then it stops by itself. Every {@code load.sampleSeconds} (30) the daemon's heap after
+ * {@code jcmd GC.run} (live: {@code jvm_gc_live_data_size_bytes}, the old generation after that full
+ * collection; and used: {@code jvm_memory_used_bytes{area="heap"}} at the scrape, which also counts what
+ * was allocated since the collection, several MiB at 500 snapshots/s) and its lag (records produced but not yet processed), the last sample at least 5 s
+ * before the stream stops; at the end the series, the least-squares slope of heap against time (MiB/min)
+ * over all samples and over the second half, and the verdict "flat" when the second-half slope is below
+ * {@code load.flatMiBPerMin} (1 MiB/min); also the lag and the consumer group's committed-offset lag when
+ * the stream stops, the time to drain, the heap once drained (idle, so not in the slope) and the
+ * produce-to-alert latency of the alerts raised (paced, so without the queueing of the load).
+ *
+ * <p>{@code -Dload.jfr=/tmp/load.jfr} makes the daemon write a flight recording (registration included).
  *
  * <p>Bounded: every wait has a deadline; the daemon is stopped and the temporary directory deleted at the
  * end ({@code -Dload.keep=true} keeps it). Not part of the test run (a {@code main}, no {@code @Test}); run
@@ -74,7 +79,7 @@ public final class LoadBenchmark {
     /** What the run does; each from a system property of the same name with the prefix {@code load.}. */
     record Settings(int experiments, long snapshots, double rate, int oracleSample, int soakMinutes,
                     double soakRate, int sampleSeconds, double flatMiBPerMin, String xmx, String jdbc, long seed,
-                    boolean keep) {
+                    boolean keep, String jfr) {
         static Settings fromSystemProperties() {
             return new Settings(Integer.getInteger("load.experiments", 10_000),
                     Long.getLong("load.snapshots", 1_000_000L),
@@ -87,7 +92,7 @@ public final class LoadBenchmark {
                     System.getProperty("load.xmx", "1g"),
                     System.getProperty("load.jdbc", ""),
                     Long.getLong("load.seed", 20270315L),
-                    Boolean.getBoolean("load.keep"));
+                    Boolean.getBoolean("load.keep"), System.getProperty("load.jfr", ""));
         }
 
         boolean soak() {
@@ -128,8 +133,12 @@ public final class LoadBenchmark {
             }
             String jdbc = s.jdbc().isBlank()
                     ? "jdbc:h2:file:" + dir.resolve("db").resolve("stopline").toAbsolutePath() : s.jdbc();
+            List<String> jvm = new ArrayList<>(List.of("-Xmx" + s.xmx()));
+            if (!s.jfr().isBlank()) {
+                jvm.add("-XX:StartFlightRecording=filename=" + s.jfr() + ",settings=profile");
+            }
             long t0 = System.nanoTime();
-            try (DaemonProcess daemon = DaemonProcess.serve(List.of("-Xmx" + s.xmx()), List.of("--bootstrap-servers",
+            try (DaemonProcess daemon = DaemonProcess.serve(jvm, List.of("--bootstrap-servers",
                     servers, "--jdbc-url", jdbc, "--plans-dir", plans.toString()), log)) {
                 double ready = seconds(System.nanoTime() - t0);
                 report.add(String.format(Locale.ROOT, "daemon ready in %.1f s (JVM start, migrations, %d plan files "
@@ -354,12 +363,16 @@ public final class LoadBenchmark {
 
     // ------------------------------------------------------------------ soak
 
-    private record Sample(double minutes, double heapMiB, long processed, long lag) {
+    /** One soak sample: live heap after the full collection (the slope's series), used heap at the scrape. */
+    private record Sample(double minutes, double heapMiB, double usedMiB, long processed, long lag) {
     }
 
     private static void soak(Settings s, int rounds, String servers, DaemonProcess daemon, List<String> report)
             throws Exception {
-        long[] sentAt = new long[Math.toIntExact((long) s.experiments() * rounds)];
+        // plans are sized for `rounds`; the stream may run a little longer (a slow producer never runs dry
+        // before the time is up; later snapshots are still checked for sample ratio and guardrails)
+        int capacity = rounds + rounds / 10 + 2;
+        long[] sentAt = new long[Math.toIntExact((long) s.experiments() * capacity)];
         LoadStream.Feed[] feeds = new LoadStream.Feed[s.experiments()];
         for (int i = 0; i < feeds.length; i++) {
             feeds[i] = LoadStream.feed(s.seed(), i, rounds);
@@ -380,7 +393,7 @@ public final class LoadBenchmark {
                     int i = j % feeds.length;
                     int k = j / feeds.length;
                     String value = feeds[i].next();
-                    sentAt[i * rounds + k] = System.nanoTime();
+                    sentAt[i * capacity + k] = System.nanoTime();
                     producer.send(new ProducerRecord<>(COUNTS, LoadStream.id(i), value));
                     sent.incrementAndGet();
                 }
@@ -388,12 +401,13 @@ public final class LoadBenchmark {
             }, "soak-producer");
             feeder.start();
             long period = Duration.ofSeconds(s.sampleSeconds()).toNanos();
-            for (long next = t0 + period; next <= t0 + duration; next += period) {
+            // samples while the stream runs (the last one at least 5 s before it stops); one more once drained
+            for (long next = t0 + period; next < t0 + duration - Duration.ofSeconds(5).toNanos(); next += period) {
                 Thread.sleep(Math.max(0, (next - System.nanoTime()) / 1_000_000));
                 Sample x = sample(daemon, servers, seconds(System.nanoTime() - t0) / 60, startOffset, processedBefore);
                 series.add(x);
-                System.out.printf(Locale.ROOT, "%5.1f min: heap after GC %.1f MiB, %,d processed, lag %,d%n",
-                        x.minutes(), x.heapMiB(), x.processed(), x.lag());
+                System.out.printf(Locale.ROOT, "%5.1f min: live heap after GC %.1f MiB (used %.1f), %,d processed, lag %,d%n",
+                        x.minutes(), x.heapMiB(), x.usedMiB(), x.processed(), x.lag());
             }
             feeder.join(Duration.ofSeconds(60).toMillis());
             stop.set(true);
@@ -405,6 +419,7 @@ public final class LoadBenchmark {
             long tStop = System.nanoTime();
             BenchSupport.awaitProcessed(daemon, processedBefore + produced, Duration.ofMinutes(30), 200);
             double drain = seconds(System.nanoTime() - tStop);
+            Sample idle = sample(daemon, servers, seconds(System.nanoTime() - t0) / 60, startOffset, processedBefore);
             Scrape scrape = Scrape.of(daemon);
             report.add(String.format(Locale.ROOT, "soak: %d min at %.0f snapshots/s: %,d snapshots produced (%.1f rounds of "
                             + "%d experiments)", s.soakMinutes(), s.soakRate(), produced,
@@ -415,18 +430,22 @@ public final class LoadBenchmark {
             report.add(String.format(Locale.ROOT, "  outcomes %s; dead letters %.0f (must be 0: %s); alerts raised %s",
                     scrape.snapshotOutcomes(), scrape.deadLetters(), scrape.deadLetters() == 0 ? "met" : "MISSED",
                     scrape.byLabel("stopline_alerts_total", "kind")));
-            report.add(latency(alerts, scrape.alertsRaised(), sentAt, rounds, System.nanoTime()));
+            report.add(latency(alerts, scrape.alertsRaised(), sentAt, capacity, System.nanoTime()));
+            report.add(String.format(Locale.ROOT, "  once drained (stream stopped, not in the slope): live heap after jcmd "
+                    + "GC.run %.1f MiB, used %.1f MiB", idle.heapMiB(), idle.usedMiB()));
         }
-        report.add("  used heap after jcmd GC.run (MiB), lag (records) every " + s.sampleSeconds() + " s:");
+        report.add("  every " + s.sampleSeconds() + " s after jcmd GC.run: live heap (jvm_gc_live_data_size_bytes), used "
+                + "heap at the scrape (jvm_memory_used_bytes{area=\"heap\"}), snapshots processed, lag (records):");
         for (Sample x : series) {
-            report.add(String.format(Locale.ROOT, "    %5.2f min  %7.1f MiB  %,10d processed  lag %,d", x.minutes(),
-                    x.heapMiB(), x.processed(), x.lag()));
+            report.add(String.format(Locale.ROOT, "    %5.2f min  live %6.1f MiB  used %6.1f MiB  %,10d processed  lag %,d",
+                    x.minutes(), x.heapMiB(), x.usedMiB(), x.processed(), x.lag()));
         }
         double all = slope(series);
         double secondHalf = slope(series.stream().filter(x -> x.minutes() >= s.soakMinutes() / 2.0).toList());
-        report.add(String.format(Locale.ROOT, "  least-squares slope of used heap: %.2f MiB/min over all %d samples, %.2f "
-                        + "MiB/min over the second half; verdict: %s (flat = second-half slope below %.1f MiB/min)", all,
-                series.size(), secondHalf, secondHalf < s.flatMiBPerMin() ? "flat" : "GROWING", s.flatMiBPerMin()));
+        long halfCount = series.stream().filter(x -> x.minutes() >= s.soakMinutes() / 2.0).count();
+        report.add(String.format(Locale.ROOT, "  least-squares slope of the live heap: %.2f MiB/min over all %d samples, %.2f "
+                        + "MiB/min over the %d samples of the second half; verdict: %s (flat = second-half slope below "
+                        + "%.1f MiB/min)", all, series.size(), secondHalf, halfCount, secondHalf < s.flatMiBPerMin() ? "flat" : "GROWING", s.flatMiBPerMin()));
     }
 
     private static Sample sample(DaemonProcess daemon, String servers, double minutes, long startOffset,
@@ -435,7 +454,9 @@ public final class LoadBenchmark {
         Scrape scrape = Scrape.of(daemon);
         long processed = scrape.processed() - processedBefore;
         long produced = BenchSupport.endOffset(servers, COUNTS) - startOffset;
-        return new Sample(minutes, scrape.heapUsedBytes() / (1024.0 * 1024.0), processed, produced - processed);
+        double mib = 1024.0 * 1024.0;
+        return new Sample(minutes, scrape.liveAfterGcBytes() / mib, scrape.heapUsedBytes() / mib, processed,
+                produced - processed);
     }
 
     /** Least-squares slope of heap (MiB) on time (minutes); NaN with fewer than two samples. */
