@@ -54,7 +54,7 @@ import org.apache.kafka.clients.producer.ProducerRecord;
  * N minutes, then it stops by itself. Every {@code load.sampleSeconds} (30) the daemon's heap after
  * {@code jcmd GC.run} (live: {@code jvm_gc_live_data_size_bytes}, the old generation after that full
  * collection; and used: {@code jvm_memory_used_bytes{area="heap"}} at the scrape, which also counts what
- * was allocated since the collection, 13 to 17 MiB more in a run at 500 snapshots/s) and its lag (records
+ * was allocated since the collection, 7 to 17 MiB more in runs at 500 snapshots/s) and its lag (records
  * produced but not yet processed), the last sample at least 5 s before the stream stops; at the end the
  * series, the least-squares slope of the live heap against time (MiB/min) over all samples and over the
  * later half of the samples taken while streaming, and the verdict "flat" when that slope is below
