@@ -279,6 +279,32 @@ final class BenchSupport {
 
     // ------------------------------------------------------------------ figures and plumbing
 
+    /**
+     * Least-squares slope of y on x, {@code sum((x - mean x)(y - mean y)) / sum((x - mean x)^2)}; NaN with
+     * fewer than two points or when every x is the same.
+     */
+    static double slope(double[] x, double[] y) {
+        if (x.length != y.length) {
+            throw new IllegalArgumentException(x.length + " x values but " + y.length + " y values");
+        }
+        if (x.length < 2) {
+            return Double.NaN;
+        }
+        double mx = 0;
+        double my = 0;
+        for (int i = 0; i < x.length; i++) {
+            mx += x[i] / x.length;
+            my += y[i] / y.length;
+        }
+        double sxy = 0;
+        double sxx = 0;
+        for (int i = 0; i < x.length; i++) {
+            sxy += (x[i] - mx) * (y[i] - my);
+            sxx += (x[i] - mx) * (x[i] - mx);
+        }
+        return sxx > 0 ? sxy / sxx : Double.NaN;
+    }
+
     /** Nearest-rank percentile of sorted values. */
     static long percentile(long[] sorted, double q) {
         int rank = (int) Math.ceil(q * sorted.length);

@@ -482,21 +482,10 @@ public final class LoadBenchmark {
                 produced - processed);
     }
 
-    /** Least-squares slope of heap (MiB) on time (minutes); NaN with fewer than two samples. */
-    static double slope(List<Sample> xs) {
-        int n = xs.size();
-        if (n < 2) {
-            return Double.NaN;
-        }
-        double mx = xs.stream().mapToDouble(Sample::minutes).average().orElseThrow();
-        double my = xs.stream().mapToDouble(Sample::heapMiB).average().orElseThrow();
-        double sxy = 0;
-        double sxx = 0;
-        for (Sample x : xs) {
-            sxy += (x.minutes() - mx) * (x.heapMiB() - my);
-            sxx += (x.minutes() - mx) * (x.minutes() - mx);
-        }
-        return sxy / sxx;
+    /** Least-squares slope of live heap (MiB) on time (minutes); NaN with fewer than two samples. */
+    private static double slope(List<Sample> xs) {
+        return BenchSupport.slope(xs.stream().mapToDouble(Sample::minutes).toArray(),
+                xs.stream().mapToDouble(Sample::heapMiB).toArray());
     }
 
     // ------------------------------------------------------------------ fleet description and the daemon's log
