@@ -29,6 +29,7 @@ import java.util.TreeMap;
 import java.util.TreeSet;
 import java.util.concurrent.atomic.AtomicBoolean;
 import java.util.concurrent.atomic.AtomicLong;
+import java.util.concurrent.atomic.AtomicReference;
 import org.apache.kafka.clients.producer.KafkaProducer;
 import org.apache.kafka.clients.producer.ProducerRecord;
 
@@ -210,11 +211,13 @@ public final class LoadBenchmark {
                 producerEnd[0] = System.nanoTime();
                 done.set(true);
             }, "load-producer");
+            AtomicReference<Throwable> failed = watch(feeder);
             feeder.start();
             String last = LoadStream.id(s.experiments() - 1);
             long nextProgress = t0 + Duration.ofSeconds(10).toNanos();
             long deadline = t0 + Duration.ofMinutes(120).toNanos();
             while (!(done.get() && reached(daemon, last, rounds))) {
+                check(failed);
                 if (System.nanoTime() > deadline) {
                     throw new IllegalStateException("load not done within 120 min: " + sent.get() + " sent");
                 }
@@ -253,6 +256,19 @@ public final class LoadBenchmark {
             return n.path("summary").path("lastSequence").asLong(-1) >= sequence;
         } catch (IOException | RuntimeException e) {
             return false;
+        }
+    }
+
+    /** What ends a producer thread abnormally, so that the waits around it fail at once, not at their deadline. */
+    private static AtomicReference<Throwable> watch(Thread producer) {
+        AtomicReference<Throwable> failed = new AtomicReference<>();
+        producer.setUncaughtExceptionHandler((t, e) -> failed.set(e));
+        return failed;
+    }
+
+    private static void check(AtomicReference<Throwable> failed) {
+        if (failed.get() != null) {
+            throw new IllegalStateException("the producer thread failed", failed.get());
         }
     }
 
@@ -418,11 +434,13 @@ public final class LoadBenchmark {
                 }
                 producer.flush();
             }, "soak-producer");
+            AtomicReference<Throwable> failed = watch(feeder);
             feeder.start();
             long period = Duration.ofSeconds(s.sampleSeconds()).toNanos();
             // samples while the stream runs (the last one at least 5 s before it stops); one more once drained
             for (long next = t0 + period; next < t0 + duration - Duration.ofSeconds(5).toNanos(); next += period) {
                 Thread.sleep(Math.max(0, (next - System.nanoTime()) / 1_000_000));
+                check(failed);
                 Sample x = sample(daemon, servers, seconds(System.nanoTime() - t0) / 60, startOffset, processedBefore);
                 series.add(x);
                 System.out.printf(Locale.ROOT, "%5.1f min: live heap after GC %.1f MiB (used %.1f), %,d processed, lag %,d%n",
@@ -431,6 +449,7 @@ public final class LoadBenchmark {
             feeder.join(Duration.ofSeconds(60).toMillis());
             stop.set(true);
             feeder.join();
+            check(failed);
             long produced = sent.get();
             long endOffset = BenchSupport.endOffset(servers, COUNTS);
             long committedLag = endOffset - BenchSupport.committedOffset(servers, GROUP, COUNTS);
