@@ -18,6 +18,7 @@ import java.io.IOException;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.time.Duration;
+import java.time.Instant;
 import java.time.LocalTime;
 import java.util.ArrayList;
 import java.util.List;
@@ -242,11 +243,14 @@ public final class LoadBenchmark {
             report.add(String.format(Locale.ROOT, "  outcomes %s; dead letters %.0f (must be 0: %s); alerts raised %s",
                     scrape.snapshotOutcomes(), scrape.deadLetters(), scrape.deadLetters() == 0 ? "met" : "MISSED",
                     scrape.byLabel("stopline_alerts_total", "kind")));
-            report.add(latency(alerts, scrape.alertsRaised(), sentAt, rounds, tEnd, Long.MAX_VALUE));
+            report.add(latency(daemon, alerts, scrape.alertsRaised(), sentAt, rounds, tEnd, Long.MAX_VALUE));
         }
         report.add(oracleCheck(s, rounds, daemon));
-        report.add(String.format(Locale.ROOT, "  used heap after jcmd GC.run at the end: %.1f MiB "
-                + "(jvm_memory_used_bytes{area=\"heap\"}, -Xmx%s)", BenchSupport.heapAfterGcMiB(daemon), s.xmx()));
+        BenchSupport.jcmd(daemon.pid(), "GC.run");
+        Scrape heap = Scrape.of(daemon);
+        report.add(String.format(Locale.ROOT, "  heap after jcmd GC.run at the end: used %.1f MiB "
+                        + "(jvm_memory_used_bytes{area=\"heap\"}), live %.1f MiB (jvm_gc_live_data_size_bytes); -Xmx%s",
+                heap.heapUsedBytes() / (1024.0 * 1024.0), heap.liveAfterGcBytes() / (1024.0 * 1024.0), s.xmx()));
     }
 
     /** Whether the experiment's last evaluated sequence has reached {@code sequence}. */
@@ -294,9 +298,10 @@ public final class LoadBenchmark {
      * snapshot that crossed ({@code data.experiment}, {@code data.sequence}); separately those whose
      * snapshot was sent at or after {@code steadyFrom} (the soak's second half, past the start-up lag).
      */
-    private static String latency(TopicReader reader, double raised, long[] sentAt, int rounds, long windowEnd,
-                                  long steadyFrom) throws InterruptedException {
+    private static String latency(DaemonProcess daemon, TopicReader reader, double raised, long[] sentAt, int rounds,
+                                  long windowEnd, long steadyFrom) throws InterruptedException {
         Map<String, Long> arrivals = new TreeMap<>();
+        List<Crossing> crossings = new ArrayList<>();
         List<Long> latencies = new ArrayList<>();
         List<Long> steady = new ArrayList<>();
         Map<String, Integer> kinds = new TreeMap<>();
@@ -327,6 +332,7 @@ public final class LoadBenchmark {
                 }
                 long sent = sentAt[i * rounds + (int) seq - 1];
                 latencies.add(a.nanos() - sent);
+                crossings.add(new Crossing(id, data.path("experiment").asText(), sent, a.nanos()));
                 if (sent >= steadyFrom) {
                     steady.add(a.nanos() - sent);
                 }
@@ -345,7 +351,47 @@ public final class LoadBenchmark {
             out += String.format(Locale.ROOT, "%n  of those, the %d whose snapshot was sent in the second half: %s",
                     steady.size(), steady.isEmpty() ? "none" : percentiles(steady));
         }
-        return out;
+        return out + "\n" + parts(daemon, crossings);
+    }
+
+    /** An alert that arrived: its id, experiment, and when its snapshot was sent and it arrived (nanoTime). */
+    private record Crossing(String id, String experiment, long sentNanos, long arrivedNanos) {
+    }
+
+    /**
+     * The latency in two parts, from the time the daemon stamps on the alert row ({@code createdAt},
+     * committed with the evaluation; millisecond resolution, the same machine clock): sent to committed
+     * (waiting in the topic behind earlier snapshots, evaluation, transaction) and committed to arrival
+     * (outbox dispatcher, the Kafka send, the reader's fetch).
+     */
+    private static String parts(DaemonProcess daemon, List<Crossing> crossings) {
+        long wallMinusNanos = System.currentTimeMillis() * 1_000_000 - System.nanoTime();
+        Map<String, Long> committedAt = new TreeMap<>(); // alert id -> epoch ms
+        try {
+            for (String experiment : new TreeSet<>(crossings.stream().map(Crossing::experiment).toList())) {
+                for (JsonNode a : JSON.readTree(daemon.getBody("/api/alerts?experiment=" + experiment))) {
+                    committedAt.put(a.path("alert").path("id").asText(),
+                            Instant.parse(a.path("createdAt").asText()).toEpochMilli());
+                }
+            }
+        } catch (IOException | RuntimeException e) {
+            return "  (no split into parts: " + e + ")";
+        }
+        List<Long> toCommit = new ArrayList<>();
+        List<Long> toArrival = new ArrayList<>();
+        for (Crossing c : crossings) {
+            Long ms = committedAt.get(c.id());
+            if (ms != null) {
+                long committed = ms * 1_000_000 - wallMinusNanos;
+                toCommit.add(committed - c.sentNanos());
+                toArrival.add(c.arrivedNanos() - committed);
+            }
+        }
+        if (toCommit.isEmpty()) {
+            return "  (no split into parts: no alert row matched the CloudEvent ids)";
+        }
+        return String.format(Locale.ROOT, "  parts, from the alert rows' createdAt (%d alerts): sent -> committed %s; "
+                + "committed -> arrival %s", toCommit.size(), percentiles(toCommit), percentiles(toArrival));
     }
 
     private static String percentiles(List<Long> nanos) {
@@ -468,7 +514,7 @@ public final class LoadBenchmark {
             report.add(String.format(Locale.ROOT, "  outcomes %s; dead letters %.0f (must be 0: %s); alerts raised %s",
                     scrape.snapshotOutcomes(), scrape.deadLetters(), scrape.deadLetters() == 0 ? "met" : "MISSED",
                     scrape.byLabel("stopline_alerts_total", "kind")));
-            report.add(latency(alerts, scrape.alertsRaised(), sentAt, capacity, tStop, t0 + duration / 2));
+            report.add(latency(daemon, alerts, scrape.alertsRaised(), sentAt, capacity, tStop, t0 + duration / 2));
             report.add(String.format(Locale.ROOT, "  once drained (stream stopped, not in the slope): live heap after jcmd "
                     + "GC.run %.1f MiB, used %.1f MiB", idle.heapMiB(), idle.usedMiB()));
         }
