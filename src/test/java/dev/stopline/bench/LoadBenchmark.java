@@ -149,7 +149,8 @@ public final class LoadBenchmark {
                 report.add(String.format(Locale.ROOT, "daemon ready in %.1f s (JVM start, migrations, %d plan files "
                                 + "registered, consumer subscribed); registering the plans, from the daemon's log: %s; "
                                 + "database %s; -Xmx%s", ready, s.experiments(), registrationSeconds(log),
-                        s.jdbc().isBlank() ? "H2 file" : s.jdbc().replaceAll("password=[^&;]*", "password=..."), s.xmx()));
+                        s.jdbc().isBlank() ? "H2 file" : s.jdbc().replaceAll("password=[^&;]*", "password=..."),
+                        s.xmx()));
                 report.add(String.format(Locale.ROOT, "fleet: %d experiments (%d group-sequential, %d mixture SPRT, %d "
                                 + "with a guardrail; scenarios %s), %d rounds", s.experiments(),
                         count(s, LoadStream::groupSequential), s.experiments() - count(s, LoadStream::groupSequential),
@@ -234,11 +235,11 @@ public final class LoadBenchmark {
             feeder.join();
             producedNanos = producerEnd[0] - t0;
             BenchSupport.awaitProcessed(daemon, before + total, Duration.ofSeconds(60), 200);
-            report.add(String.format(Locale.ROOT, "load: %,d snapshots (%d experiments x %d rounds), %s; produced in %.1f s",
-                    total, s.experiments(), rounds, s.rate() > 0 ? "paced at " + s.rate() + "/s" : "unpaced",
-                    seconds(producedNanos)));
-            report.add(String.format(Locale.ROOT, "  end to end (first send to last snapshot evaluated): %.1f s = %,.0f "
-                    + "snapshots/s", seconds(tEnd - t0), total / seconds(tEnd - t0)));
+            report.add(String.format(Locale.ROOT, "load: %,d snapshots (%d experiments x %d rounds), %s; "
+                            + "produced in %.1f s", total, s.experiments(), rounds,
+                    s.rate() > 0 ? "paced at " + s.rate() + "/s" : "unpaced", seconds(producedNanos)));
+            report.add(String.format(Locale.ROOT, "  end to end (first send to last snapshot evaluated): %.1f s = "
+                    + "%,.0f snapshots/s", seconds(tEnd - t0), total / seconds(tEnd - t0)));
             Scrape scrape = Scrape.of(daemon);
             report.add(String.format(Locale.ROOT, "  outcomes %s; dead letters %.0f (must be 0: %s); alerts raised %s",
                     scrape.snapshotOutcomes(), scrape.deadLetters(), scrape.deadLetters() == 0 ? "met" : "MISSED",
@@ -343,10 +344,11 @@ public final class LoadBenchmark {
             return String.format(Locale.ROOT, "  produce-to-alert: no alert arrived (%.0f raised)", raised);
         }
         long afterWindow = arrivals.values().stream().filter(t -> t > windowEnd).count();
-        String out = String.format(Locale.ROOT, "  produce-to-alert latency over %d alerts (%.0f raised; %s; %d duplicate "
-                        + "deliveries, %d unmatched; %d arrived after %s): %s", latencies.size(), raised, kinds,
-                duplicates, foreign, afterWindow, steadyFrom == Long.MAX_VALUE ? "the last snapshot was evaluated"
-                        : "the stream stopped", percentiles(latencies));
+        String out = String.format(Locale.ROOT, "  produce-to-alert latency over %d alerts (%.0f raised; %s; %d "
+                        + "duplicate deliveries, %d unmatched; %d arrived after %s): %s", latencies.size(), raised,
+                kinds, duplicates, foreign, afterWindow,
+                steadyFrom == Long.MAX_VALUE ? "the last snapshot was evaluated" : "the stream stopped",
+                percentiles(latencies));
         if (steadyFrom != Long.MAX_VALUE) {
             out += String.format(Locale.ROOT, "%n  of those, the %d whose snapshot was sent in the second half: %s",
                     steady.size(), steady.isEmpty() ? "none" : percentiles(steady));
@@ -489,8 +491,8 @@ public final class LoadBenchmark {
                 check(failed);
                 Sample x = sample(daemon, servers, seconds(System.nanoTime() - t0) / 60, startOffset, processedBefore);
                 series.add(x);
-                System.out.printf(Locale.ROOT, "%5.1f min: live heap after GC %.1f MiB (used %.1f), %,d processed, lag %,d%n",
-                        x.minutes(), x.heapMiB(), x.usedMiB(), x.processed(), x.lag());
+                System.out.printf(Locale.ROOT, "%5.1f min: live heap after GC %.1f MiB (used %.1f), %,d processed, "
+                        + "lag %,d%n", x.minutes(), x.heapMiB(), x.usedMiB(), x.processed(), x.lag());
             }
             feeder.join(Duration.ofSeconds(60).toMillis());
             stop.set(true);
@@ -505,8 +507,8 @@ public final class LoadBenchmark {
             double drain = seconds(System.nanoTime() - tStop);
             Sample idle = sample(daemon, servers, seconds(System.nanoTime() - t0) / 60, startOffset, processedBefore);
             Scrape scrape = Scrape.of(daemon);
-            report.add(String.format(Locale.ROOT, "soak: %d min at %.0f snapshots/s: %,d snapshots produced (%.1f rounds of "
-                            + "%d experiments)", s.soakMinutes(), s.soakRate(), produced,
+            report.add(String.format(Locale.ROOT, "soak: %d min at %.0f snapshots/s: %,d snapshots produced (%.1f "
+                            + "rounds of %d experiments)", s.soakMinutes(), s.soakRate(), produced,
                     produced / (double) s.experiments(), s.experiments()));
             report.add(String.format(Locale.ROOT, "  lag when the stream stopped: %,d records not yet processed; %,d "
                     + "behind the group's committed offset (commits are throttled); drained in %.1f s", processedLag,
@@ -515,14 +517,15 @@ public final class LoadBenchmark {
                     scrape.snapshotOutcomes(), scrape.deadLetters(), scrape.deadLetters() == 0 ? "met" : "MISSED",
                     scrape.byLabel("stopline_alerts_total", "kind")));
             report.add(latency(daemon, alerts, scrape.alertsRaised(), sentAt, capacity, tStop, t0 + duration / 2));
-            report.add(String.format(Locale.ROOT, "  once drained (stream stopped, not in the slope): live heap after jcmd "
-                    + "GC.run %.1f MiB, used %.1f MiB", idle.heapMiB(), idle.usedMiB()));
+            report.add(String.format(Locale.ROOT, "  once drained (stream stopped, not in the slope): live heap "
+                    + "after jcmd GC.run %.1f MiB, used %.1f MiB", idle.heapMiB(), idle.usedMiB()));
         }
-        report.add("  every " + s.sampleSeconds() + " s after jcmd GC.run: live heap (jvm_gc_live_data_size_bytes), used "
-                + "heap at the scrape (jvm_memory_used_bytes{area=\"heap\"}), snapshots processed, lag (records):");
+        report.add("  every " + s.sampleSeconds() + " s after jcmd GC.run: live heap (jvm_gc_live_data_size_bytes), "
+                + "used heap at the scrape (jvm_memory_used_bytes{area=\"heap\"}), snapshots processed, "
+                + "lag (records):");
         for (Sample x : series) {
-            report.add(String.format(Locale.ROOT, "    %5.2f min  live %6.1f MiB  used %6.1f MiB  %,10d processed  lag %,d",
-                    x.minutes(), x.heapMiB(), x.usedMiB(), x.processed(), x.lag()));
+            report.add(String.format(Locale.ROOT, "    %5.2f min  live %6.1f MiB  used %6.1f MiB  %,10d processed  "
+                    + "lag %,d", x.minutes(), x.heapMiB(), x.usedMiB(), x.processed(), x.lag()));
         }
         double all = slope(series);
         // the second half: the later half of the samples taken while the stream ran (the one at 0 is before it)
@@ -531,9 +534,10 @@ public final class LoadBenchmark {
         double secondHalf = slope(half);
         String verdict = Double.isNaN(secondHalf) ? "undetermined (fewer than 2 samples in the second half)"
                 : secondHalf < s.flatMiBPerMin() ? "flat" : "GROWING";
-        report.add(String.format(Locale.ROOT, "  least-squares slope of the live heap: %.2f MiB/min over all %d samples, %.2f "
-                        + "MiB/min over the %d samples of the second half; verdict: %s (flat = second-half slope below "
-                        + "%.1f MiB/min)", all, series.size(), secondHalf, half.size(), verdict, s.flatMiBPerMin()));
+        report.add(String.format(Locale.ROOT, "  least-squares slope of the live heap: %.2f MiB/min over all %d "
+                        + "samples, %.2f MiB/min over the %d samples of the second half; verdict: %s (flat = "
+                        + "second-half slope below %.1f MiB/min)", all, series.size(), secondHalf, half.size(), verdict,
+                s.flatMiBPerMin()));
     }
 
     private static Sample sample(DaemonProcess daemon, String servers, double minutes, long startOffset,
@@ -586,8 +590,8 @@ public final class LoadBenchmark {
                 }
                 if (t != null && line.contains("stopping plans active")) {
                     double s = Duration.between(first, t).toMillis() / 1000.0;
-                    return String.format(Locale.ROOT, "%.1f s from the first log line to \"%s\"", s < 0 ? s + 86_400 : s,
-                            line.substring(line.lastIndexOf(']') + 2));
+                    return String.format(Locale.ROOT, "%.1f s from the first log line to \"%s\"",
+                            s < 0 ? s + 86_400 : s, line.substring(line.lastIndexOf(']') + 2));
                 }
             }
             return "(no \"stopping plans active\" line in the log)";
