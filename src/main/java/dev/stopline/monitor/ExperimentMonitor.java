@@ -26,6 +26,7 @@ import dev.stopline.stats.sprt.SprtDecision;
 import dev.stopline.stats.sprt.WaldSprt;
 import dev.stopline.wire.ArmCounts;
 import dev.stopline.wire.MetricSums;
+import dev.stopline.wire.PlanShape;
 import dev.stopline.wire.Snapshot;
 import java.util.ArrayList;
 import java.util.HashMap;
@@ -76,6 +77,7 @@ public final class ExperimentMonitor {
     private final PlanSizing sizing;
     private final SampleRatioCheck sampleRatio;
     private final double[] plannedFractions;
+    private final PlanShape shape;
 
     private ExperimentMonitor(Plan plan, int planVersion) {
         this.plan = plan;
@@ -94,11 +96,32 @@ public final class ExperimentMonitor {
         this.sizing = PlanSizing.of(plan, planned);
         double[] weights = plan.allocation().values().stream().mapToDouble(Double::doubleValue).toArray();
         this.sampleRatio = SampleRatioCheck.withWeights(weights).withThreshold(plan.sampleRatio().alpha());
+        this.shape = new PlanShape(plan.arms(), plan.metrics());
     }
 
     /** A monitor for a validated plan at the given version. */
     public static ExperimentMonitor of(Plan plan, int planVersion) {
         return new ExperimentMonitor(plan, planVersion);
+    }
+
+    private ExperimentMonitor(ExperimentMonitor same, int planVersion) {
+        this.plan = same.plan;
+        this.planVersion = planVersion;
+        this.treatment = same.treatment;
+        this.design = same.design;
+        this.planned = same.planned;
+        this.plannedFractions = same.plannedFractions;
+        this.sizing = same.sizing;
+        this.sampleRatio = same.sampleRatio;
+        this.shape = same.shape;
+    }
+
+    /**
+     * The same monitor for another version of the same plan, without computing the boundaries again
+     * (they depend only on the plan; the parts shared are immutable).
+     */
+    public ExperimentMonitor atVersion(int version) {
+        return version == planVersion ? this : new ExperimentMonitor(this, version);
     }
 
     /** The group-sequential design a plan describes (power from the plan, or 1 - beta, for futility and sizing). */
@@ -124,6 +147,11 @@ public final class ExperimentMonitor {
 
     public int planVersion() {
         return planVersion;
+    }
+
+    /** The arms and metrics every snapshot of this experiment must carry. */
+    public PlanShape shape() {
+        return shape;
     }
 
     /** The planned boundaries (group-sequential primaries), or null. */

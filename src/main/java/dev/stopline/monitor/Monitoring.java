@@ -60,7 +60,7 @@ public final class Monitoring {
         if (monitor != null && state == null) {
             state = monitor.initialState();
         }
-        PlanShape shape = monitor == null ? null : new PlanShape(monitor.plan().arms(), monitor.plan().metrics());
+        PlanShape shape = monitor == null ? null : monitor.shape();
         Outcome checked = SnapshotSequencer.check(snapshot, state == null ? null : state.lastSnapshot(), shape);
         if (checked instanceof Rejection r) {
             return r.reason() == Reason.DUPLICATE ? new Duplicate(snapshot) : new Rejected(r, snapshot.experiment());

@@ -66,6 +66,8 @@ public final class SnapshotParser {
             .enable(DeserializationFeature.FAIL_ON_TRAILING_TOKENS)
             .build();
 
+    private static final SnapshotFastReader FAST = new SnapshotFastReader(MAPPER.getFactory());
+
     private final int maxBytes;
 
     private SnapshotParser(int maxBytes) {
@@ -100,6 +102,22 @@ public final class SnapshotParser {
      * A null {@code value} (a Kafka tombstone) is {@code malformed-json}.
      */
     public Outcome parse(byte[] value, String key) {
+        if (value != null && value.length > 0 && value.length <= maxBytes) {
+            Snapshot s = FAST.read(value, key);
+            if (s != null) {
+                return s;
+            }
+        }
+        return parseFully(value, key);
+    }
+
+    /** The fast path alone (null: the full path decides); for the test that both agree. */
+    static Snapshot fastPathOnly(byte[] value, String key) {
+        return FAST.read(value, key);
+    }
+
+    /** The full path alone: builds the tree and checks everything in the documented order. */
+    Outcome parseFully(byte[] value, String key) {
         try {
             return snapshot(read(value), key);
         } catch (Reject r) {

@@ -104,27 +104,28 @@ public final class SnapshotSequencer {
             if (before == null) {
                 continue;
             }
-            String at = "/arms/" + e.getKey();
             if (e.getValue().units() < before.units()) {
-                return decreased(at + "/units", e.getValue().units(), before.units(), previous);
+                return decreased("/arms/" + e.getKey() + "/units", e.getValue().units(), before.units(), previous);
             }
             for (Map.Entry<String, MetricSums> m : e.getValue().metrics().entrySet()) {
                 MetricSums old = before.metrics().get(m.getKey());
-                Rejection r = old == null ? null : sums(at + "/metrics/" + m.getKey(), m.getValue(), old, previous);
-                if (r != null) {
-                    return r;
+                String field = old == null ? null : decreasedField(m.getValue(), old);
+                if (field != null) {
+                    String at = "/arms/" + e.getKey() + "/metrics/" + m.getKey() + "/" + field;
+                    return decreased(at, value(m.getValue(), field), value(old, field), previous);
                 }
             }
         }
         return null;
     }
 
-    private static Rejection sums(String at, MetricSums now, MetricSums old, Snapshot previous) {
+    /** The first field of {@code now} below its value in {@code old}, or null (no text built on the good path). */
+    private static String decreasedField(MetricSums now, MetricSums old) {
         if (below(now.sum(), old.sum())) {
-            return decreased(at + "/sum", now.sum(), old.sum(), previous);
+            return "sum";
         }
         if (below(now.sumOfSquares(), old.sumOfSquares())) {
-            return decreased(at + "/sumOfSquares", now.sumOfSquares(), old.sumOfSquares(), previous);
+            return "sumOfSquares";
         }
         if (now.ratio() == null || old.ratio() == null) {
             return null;
@@ -132,15 +133,22 @@ public final class SnapshotSequencer {
         RatioSums a = now.ratio();
         RatioSums b = old.ratio();
         if (below(a.denominatorSum(), b.denominatorSum())) {
-            return decreased(at + "/denominatorSum", a.denominatorSum(), b.denominatorSum(), previous);
+            return "denominatorSum";
         }
         if (below(a.denominatorSumOfSquares(), b.denominatorSumOfSquares())) {
-            return decreased(at + "/denominatorSumOfSquares", a.denominatorSumOfSquares(), b.denominatorSumOfSquares(), previous);
+            return "denominatorSumOfSquares";
         }
-        if (below(a.sumOfProducts(), b.sumOfProducts())) {
-            return decreased(at + "/sumOfProducts", a.sumOfProducts(), b.sumOfProducts(), previous);
-        }
-        return null;
+        return below(a.sumOfProducts(), b.sumOfProducts()) ? "sumOfProducts" : null;
+    }
+
+    private static double value(MetricSums m, String field) {
+        return switch (field) {
+            case "sum" -> m.sum();
+            case "sumOfSquares" -> m.sumOfSquares();
+            case "denominatorSum" -> m.ratio().denominatorSum();
+            case "denominatorSumOfSquares" -> m.ratio().denominatorSumOfSquares();
+            default -> m.ratio().sumOfProducts();
+        };
     }
 
     private static boolean below(double now, double before) {

@@ -43,10 +43,12 @@ import org.apache.kafka.common.serialization.StringSerializer;
  *
  * <ol>
  *   <li><b>Throughput</b>: snapshots per second end to end (ingest, evaluate, persist; the offset is
- *       committed after the transaction), measured as the time from producing the first snapshot of the
- *       timed range until {@code stopline_snapshots_total} counts the last one; then a bare
- *       {@code KafkaConsumer} (same deserializers, no processing) reads the same offsets of the same
- *       topic. The ratio daemon / bare consumer is the figure (target at least 0.5).</li>
+ *       committed after the transaction) on a backlog: every snapshot is in the topic before the daemon
+ *       starts, so the producer cannot be what is measured. The daemon's rate is taken between the
+ *       moments {@code stopline_snapshots_total} passes the warm-up count and reaches the total (scraped
+ *       every 20 ms); then a bare {@code KafkaConsumer} (same deserializers, no processing) reads the
+ *       same offsets after reading the warm-up ones. The ratio daemon / bare consumer is the figure
+ *       (target at least 0.5).</li>
  *   <li><b>Produce-to-alert latency</b>: one snapshot at a time, each of a fresh experiment with a
  *       60/40 split against a 50/50 allocation (a sample-ratio mismatch at the first snapshot), timed from
  *       just before {@code send} to the CloudEvent's arrival on the alert topic in this JVM (one clock).
@@ -73,8 +75,8 @@ public final class IngestBenchmark {
                     int heapSnapshots, String xmx, String jfr, List<String> phases, boolean keep) {
         static Settings fromSystemProperties() {
             return new Settings(Integer.getInteger("bench.experiments", 100),
-                    Integer.getInteger("bench.warmupRounds", 20),
-                    Integer.getInteger("bench.rounds", 200),
+                    Integer.getInteger("bench.warmupRounds", 500),
+                    Integer.getInteger("bench.rounds", 1500),
                     Integer.getInteger("bench.alerts", 200),
                     Integer.getInteger("bench.alertWarmup", 20),
                     Integer.getInteger("bench.heapExperiments", 10_000),
@@ -132,6 +134,12 @@ public final class IngestBenchmark {
         for (int i = 0; i < s.alertWarmup() + s.alerts(); i++) {
             Files.writeString(plans.resolve(latId(i) + ".yaml"), plan(latId(i), 1_000_000));
         }
+        Backlog backlog = null;
+        if (s.phases().contains("throughput")) {
+            try (KafkaProducer<String, String> producer = producer(servers, 5)) {
+                backlog = produceBacklog(s, servers, producer, report);
+            }
+        }
         List<String> jvm = new ArrayList<>(List.of("-Xmx" + s.xmx()));
         if (!s.jfr().isBlank()) {
             jvm.add("-XX:StartFlightRecording=filename=" + s.jfr() + ",settings=profile");
@@ -140,12 +148,11 @@ public final class IngestBenchmark {
         Path log = dir.resolve("daemon.log");
         long t0 = System.nanoTime();
         try (DaemonProcess daemon = DaemonProcess.serve(jvm, List.of("--bootstrap-servers", servers, "--jdbc-url", jdbc,
-                "--plans-dir", plans.toString()), log);
-             KafkaProducer<String, String> producer = producer(servers, 5)) {
+                "--plans-dir", plans.toString()), log)) {
             report.add(String.format(Locale.ROOT, "daemon 1: %d + %d plans, ready in %.1f s (-Xmx%s)",
                     s.experiments(), s.alertWarmup() + s.alerts(), seconds(System.nanoTime() - t0), s.xmx()));
-            if (s.phases().contains("throughput")) {
-                throughput(s, servers, daemon, producer, report);
+            if (backlog != null) {
+                throughput(s, servers, daemon, backlog, report);
             }
             if (s.phases().contains("latency")) {
                 latency(s, servers, daemon, report);
@@ -157,45 +164,67 @@ public final class IngestBenchmark {
         }
     }
 
-    private static void throughput(Settings s, String servers, DaemonProcess daemon,
-                                   KafkaProducer<String, String> producer, List<String> report) throws Exception {
+    /** Offsets of the backlog: [start, warm) warms the reader up, [warm, end) is timed. */
+    private record Backlog(long start, long warm, long end) {
+    }
+
+    private static Backlog produceBacklog(Settings s, String servers, KafkaProducer<String, String> producer,
+                                          List<String> report) {
         SplittableRandom random = new SplittableRandom(20270301L);
         long[][] cumulative = new long[s.experiments()][4];
-        long warmStart = endOffset(servers, COUNTS);
-        produceRounds(producer, s.experiments(), 1, s.warmupRounds(), cumulative, random);
-        long warmTarget = s.experiments() * (long) s.warmupRounds();
-        awaitProcessed(daemon, warmTarget, Duration.ofSeconds(600), 200);
-
+        List<ProducerRecord<String, String>> records = buildRounds(s.experiments(), 1, s.warmupRounds() + s.rounds(),
+                cumulative, random);
         long start = endOffset(servers, COUNTS);
-        long before = processed(daemon);
-        long m = s.experiments() * (long) s.rounds();
         long t0 = System.nanoTime();
-        produceRounds(producer, s.experiments(), s.warmupRounds() + 1, s.rounds(), cumulative, random);
+        sendAll(producer, records);
         long produced = System.nanoTime() - t0;
-        // Records of one partition are handled in order, so the last experiment reaching the last round
-        // means every record before it is done; asking for it is far cheaper for the daemon than a scrape.
-        awaitSequence(daemon, tpId(s.experiments() - 1), s.warmupRounds() + s.rounds(), Duration.ofSeconds(1200));
-        long elapsed = System.nanoTime() - t0;
-        awaitProcessed(daemon, before + m, Duration.ofSeconds(60), 200);
-        long end = endOffset(servers, COUNTS);
-        double daemonRate = m / seconds(elapsed);
-        Map<String, Double> outcomes = snapshotOutcomes(daemon);
+        report.add(String.format(Locale.ROOT, "backlog: %d experiments x (%d warm-up + %d timed) rounds = %d snapshots,"
+                        + " produced before the daemon starts in %.2f s", s.experiments(), s.warmupRounds(), s.rounds(),
+                records.size(), seconds(produced)));
+        long warm = start + (long) s.experiments() * s.warmupRounds();
+        return new Backlog(start, warm, endOffset(servers, COUNTS));
+    }
 
-        double bareRate = bareConsumerRate(servers, warmStart, start, end);
-        report.add(String.format(Locale.ROOT,
-                "throughput: %d snapshots (%d experiments x %d rounds, after %d warm-up rounds), produced in %.2f s",
-                m, s.experiments(), s.rounds(), s.warmupRounds(), seconds(produced)));
-        report.add(String.format(Locale.ROOT, "  daemon end to end: %.2f s = %.0f snapshots/s; outcomes %s, "
-                + "dead letters %.0f", seconds(elapsed), daemonRate, outcomes, deadLetters(daemon)));
-        report.add(String.format(Locale.ROOT, "  bare KafkaConsumer, same %d records: %.0f records/s", end - start,
-                bareRate));
+    private static void throughput(Settings s, String servers, DaemonProcess daemon, Backlog backlog,
+                                   List<String> report) throws Exception {
+        long warmCount = backlog.warm() - backlog.start();
+        long total = backlog.end() - backlog.start();
+        long first = processed(daemon);
+        if (first >= warmCount) {
+            throw new IllegalStateException("the daemon had processed " + first + " snapshots when it became ready, "
+                    + "past the warm-up of " + warmCount + ": raise -Dbench.warmupRounds");
+        }
+        // One partition, handled in order: the last experiment reaching a round means every record before
+        // it is done. Asking for one experiment every 25 ms costs the daemon far less than a metrics scrape.
+        String last = tpId(s.experiments() - 1);
+        long tWarm = awaitSequence(daemon, last, s.warmupRounds(), Duration.ofSeconds(600));
+        long cpuWarm = processCpuNanos(daemon.pid());
+        long tEnd = awaitSequence(daemon, last, s.warmupRounds() + s.rounds(), Duration.ofSeconds(1200));
+        long cpuEnd = processCpuNanos(daemon.pid());
+        awaitProcessed(daemon, total, Duration.ofSeconds(60), 200);
+        long m = total - warmCount;
+        double daemonRate = m / seconds(tEnd - tWarm);
+        Map<String, Double> outcomes = snapshotOutcomes(daemon);
+        long[] bare = bareConsumer(servers, backlog.start(), backlog.warm(), backlog.end());
+        double bareRate = m / seconds(bare[0]);
+        report.add(String.format(Locale.ROOT, "  daemon end to end, timed part: %d snapshots in %.2f s = %.0f "
+                + "snapshots/s; outcomes %s, dead letters %s", m, seconds(tEnd - tWarm), daemonRate, outcomes,
+                deadLettersByReason(daemon)));
+        report.add(String.format(Locale.ROOT, "  daemon CPU (all threads, /proc) per snapshot: %.1f us", 
+                (cpuEnd - cpuWarm) / 1e3 / m));
+        report.add(String.format(Locale.ROOT, "  bare KafkaConsumer, same %d records: %.0f records/s, CPU of its "
+                + "thread per record %.1f us", m, bareRate, bare[1] / 1e3 / m));
         report.add(String.format(Locale.ROOT, "  ratio daemon / bare consumer: %.3f (target >= 0.5: %s)",
                 daemonRate / bareRate, daemonRate / bareRate >= 0.5 ? "met" : "missed"));
     }
 
-    /** Rounds {@code first..first+n-1}: each experiment one snapshot per round, ~100 more units per arm. */
-    private static void produceRounds(KafkaProducer<String, String> producer, int experiments, int first, int n,
-                                      long[][] cumulative, SplittableRandom random) {
+    /**
+     * The records of rounds {@code first..first+n-1}, built before any is sent so that formatting them is
+     * not part of the timed window (the daemon must not be measured against a slow producer).
+     */
+    private static List<ProducerRecord<String, String>> buildRounds(int experiments, int first, int n,
+                                                                    long[][] cumulative, SplittableRandom random) {
+        List<ProducerRecord<String, String>> records = new ArrayList<>(experiments * n);
         for (int k = first; k < first + n; k++) {
             for (int i = 0; i < experiments; i++) {
                 long[] c = cumulative[i];
@@ -203,33 +232,58 @@ public final class IngestBenchmark {
                 c[1] += random.nextInt(21);
                 c[2] += 95 + random.nextInt(11);
                 c[3] += random.nextInt(21);
-                producer.send(new ProducerRecord<>(COUNTS, tpId(i),
+                records.add(new ProducerRecord<>(COUNTS, tpId(i),
                         Counts.proportion(tpId(i), k, "orders", c[0], c[1], c[2], c[3])));
             }
+        }
+        return records;
+    }
+
+    private static void sendAll(KafkaProducer<String, String> producer, List<ProducerRecord<String, String>> records) {
+        for (ProducerRecord<String, String> r : records) {
+            producer.send(r);
         }
         producer.flush();
     }
 
-    /** Records per second of a plain consumer over offsets [start, end), after reading [warm, start) once. */
-    private static double bareConsumerRate(String servers, long warm, long start, long end) {
+    /**
+     * A plain consumer over offsets [start, end) after reading [warm, start) once: returns the wall
+     * nanoseconds and the CPU nanoseconds of the reading thread for the timed part.
+     */
+    private static long[] bareConsumer(String servers, long warm, long start, long end) {
         Properties p = new Properties();
         p.put("bootstrap.servers", servers);
         p.put("key.deserializer", StringDeserializer.class.getName());
         p.put("value.deserializer", ByteArrayDeserializer.class.getName());
         p.put("enable.auto.commit", "false");
         TopicPartition tp = new TopicPartition(COUNTS, 0);
+        java.lang.management.ThreadMXBean threads = java.lang.management.ManagementFactory.getThreadMXBean();
         try (KafkaConsumer<String, byte[]> c = new KafkaConsumer<>(p)) {
             c.assign(List.of(tp));
             c.seek(tp, warm);
             readUntil(c, start);
             c.seek(tp, start);
+            long cpu0 = threads.getCurrentThreadCpuTime();
             long t0 = System.nanoTime();
             long bytes = readUntil(c, end);
             long elapsed = System.nanoTime() - t0;
+            long cpu = threads.getCurrentThreadCpuTime() - cpu0;
             if (bytes <= 0) {
                 throw new IllegalStateException("bare consumer read nothing");
             }
-            return (end - start) / seconds(elapsed);
+            return new long[] {elapsed, cpu};
+        }
+    }
+
+    /** User + system CPU time of a process so far, from {@code /proc/<pid>/stat} (Linux; clock ticks of 10 ms). */
+    private static long processCpuNanos(long pid) {
+        try {
+            String stat = Files.readString(Path.of("/proc", Long.toString(pid), "stat"));
+            String[] f = stat.substring(stat.lastIndexOf(')') + 2).split(" ");
+            long ticks = Long.parseLong(f[11]) + Long.parseLong(f[12]); // fields 14 and 15 of proc(5)
+            return ticks * 10_000_000L;
+        } catch (IOException e) {
+            return 0;
         }
     }
 
@@ -466,7 +520,8 @@ public final class IngestBenchmark {
         return Math.round(sum);
     }
 
-    private static void awaitProcessed(DaemonProcess daemon, long target, Duration max, long pollMillis)
+    /** Polls until the daemon has processed {@code target} snapshots; returns {@link System#nanoTime()} then. */
+    private static long awaitProcessed(DaemonProcess daemon, long target, Duration max, long pollMillis)
             throws InterruptedException {
         long deadline = System.nanoTime() + max.toNanos();
         long seen;
@@ -476,22 +531,23 @@ public final class IngestBenchmark {
             }
             Thread.sleep(pollMillis);
         }
+        return System.nanoTime();
     }
 
-    /** Waits (polling every 10 ms) until the experiment's last evaluated sequence reaches {@code sequence}. */
-    private static void awaitSequence(DaemonProcess daemon, String experiment, long sequence, Duration max)
+    /** Polls every 25 ms until the experiment's last evaluated sequence reaches {@code sequence}; returns the time then. */
+    private static long awaitSequence(DaemonProcess daemon, String experiment, long sequence, Duration max)
             throws InterruptedException {
-        Pattern last = Pattern.compile("\"lastSequence\"\\s*:\\s*(\\d+)");
+        Pattern lastSequence = Pattern.compile("\"lastSequence\"\\s*:\\s*(\\d+)");
         long deadline = System.nanoTime() + max.toNanos();
         while (true) {
-            Matcher m = last.matcher(daemon.getBody("/api/experiments/" + experiment));
+            Matcher m = lastSequence.matcher(daemon.getBody("/api/experiments/" + experiment));
             if (m.find() && Long.parseLong(m.group(1)) >= sequence) {
-                return;
+                return System.nanoTime();
             }
             if (System.nanoTime() > deadline) {
                 throw new IllegalStateException(experiment + " did not reach sequence " + sequence + " within " + max);
             }
-            Thread.sleep(10);
+            Thread.sleep(25);
         }
     }
 
@@ -507,13 +563,20 @@ public final class IngestBenchmark {
     }
 
     private static double deadLetters(DaemonProcess daemon) {
-        double sum = 0;
+        return deadLettersByReason(daemon).values().stream().mapToDouble(Double::doubleValue).sum();
+    }
+
+    /** {@code stopline_dead_letters_total} per reason label. */
+    private static Map<String, Double> deadLettersByReason(DaemonProcess daemon) {
+        Map<String, Double> byReason = new java.util.TreeMap<>();
+        Pattern reason = Pattern.compile("reason=\"([^\"]*)\"");
         for (String line : daemon.getBody("/q/metrics").split("\n")) {
             if (line.startsWith("stopline_dead_letters_total{")) {
-                sum += value(line);
+                Matcher m = reason.matcher(line);
+                byReason.merge(m.find() ? m.group(1) : "?", value(line), Double::sum);
             }
         }
-        return sum;
+        return byReason;
     }
 
     private static double value(String metricLine) {

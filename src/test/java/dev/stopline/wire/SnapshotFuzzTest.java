@@ -1,6 +1,7 @@
 package dev.stopline.wire;
 
 import static dev.stopline.wire.Records.bytes;
+import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertNotNull;
 import static org.junit.jupiter.api.Assertions.assertTrue;
@@ -53,6 +54,38 @@ class SnapshotFuzzTest {
             assertTrue(reasons.getOrDefault(r, 0) > 0, "never produced " + r + ": " + reasons);
         }
         assertTrue(accepted > 0, "no mutation kept a valid record");
+    }
+
+    /**
+     * The one-pass reader of the common case may only ever say "here is the snapshot" when the full
+     * tree path says the same snapshot: on every mutation (valid or not) the parser's answer equals the
+     * full path's, and on the unmutated records the fast path is the one answering.
+     */
+    @Test
+    void fastPath_givesTheFullPathsAnswer_onEveryMutation(TestReporter report) {
+        SplittableRandom rnd = new SplittableRandom(SEED + 1);
+        SnapshotParser parser = SnapshotParser.withDefaults().withMaxBytes(4096);
+        int fastAccepted = 0;
+        int fullAccepted = 0;
+        for (int i = 0; i < CASES; i++) {
+            String base = rnd.nextBoolean() ? Records.VALID : Records.withRatio(6, 10000, 800 + rnd.nextInt(100) / 7.0);
+            byte[] mutated = rnd.nextInt(3) == 0 ? tokenMutation(base, rnd) : byteMutation(bytes(base), rnd);
+            String key = rnd.nextInt(10) == 0 ? "gift-wrap-upsell" : "checkout-redesign";
+            Outcome full = parser.parseFully(mutated, key);
+            assertEquals(full, parser.parse(mutated, key), () -> "differs on " + new String(mutated,
+                    java.nio.charset.StandardCharsets.UTF_8));
+            Snapshot fast = SnapshotParser.fastPathOnly(mutated, key);
+            if (fast != null) {
+                assertEquals(full, fast);
+                fastAccepted++;
+            }
+            fullAccepted += full instanceof Snapshot ? 1 : 0;
+        }
+        for (String valid : new String[] {Records.VALID, Records.withRatio(6, 10000, 800.25)}) {
+            assertNotNull(SnapshotParser.fastPathOnly(bytes(valid), "checkout-redesign"), valid);
+        }
+        report.publishEntry("fast path", fastAccepted + " of " + fullAccepted + " valid mutations read in one pass");
+        assertTrue(fastAccepted > 0, "the fast path never answered");
     }
 
     private static byte[] byteMutation(byte[] in, SplittableRandom rnd) {

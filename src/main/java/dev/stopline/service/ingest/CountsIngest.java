@@ -64,6 +64,7 @@ public class CountsIngest {
 
     /** Handles one record; returns only when its effect is durable. */
     public void accept(ConsumerRecord<String, byte[]> record) {
+        plans.awaitLoaded();
         long backoff = 100;
         while (true) {
             try {
@@ -96,6 +97,7 @@ public class CountsIngest {
      * knows how to quarantine a record and how to wait for the database.
      */
     public void acceptAll(List<ConsumerRecord<String, byte[]>> records) {
+        plans.awaitLoaded();
         if (records.size() == 1) {
             accept(records.get(0));
             return;

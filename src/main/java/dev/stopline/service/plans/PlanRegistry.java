@@ -24,6 +24,8 @@ import java.util.Map;
 import java.util.Objects;
 import java.util.Optional;
 import java.util.concurrent.ConcurrentHashMap;
+import java.util.concurrent.CountDownLatch;
+import java.util.concurrent.TimeUnit;
 import java.util.stream.Stream;
 import org.eclipse.microprofile.config.inject.ConfigProperty;
 import org.jboss.logging.Logger;
@@ -45,6 +47,8 @@ public class PlanRegistry {
     private final Clock clock;
     private final Path plansDir;
     private final Map<String, ExperimentMonitor> monitors = new ConcurrentHashMap<>();
+    /** Open once the stored plans and the plans directory are loaded: ingest waits for it. */
+    private final CountDownLatch loaded = new CountDownLatch(1);
 
     @Inject
     public PlanRegistry(Store store, Clock clock,
@@ -54,21 +58,35 @@ public class PlanRegistry {
         this.plansDir = plansDir;
     }
 
-    /**
-     * Registers the plan files of the plans directory, then builds the monitors of the stored plans that
-     * registering did not just build (unchanged or locked files, plans registered earlier through the API).
-     * Building a monitor computes the plan's boundaries; doing it again for every file was 14% of the
-     * start-up of 10,000 plan files (flight recording of the load benchmark).
-     */
+    /** Registers the plan files of the plans directory, then builds the monitors of every stored plan. */
     void onStart(@Observes StartupEvent ev) {
-        loadDirectory();
-        for (Store.StoredPlan p : store.plans()) {
-            ExperimentMonitor built = monitors.get(p.experimentId());
-            if (built == null || built.planVersion() != p.version()) {
-                monitors.put(p.experimentId(), ExperimentMonitor.of(PlanParser.parseJson(p.planJson()), p.version()));
+        try {
+            loadDirectory();
+            for (Store.StoredPlan p : store.plans()) {
+                ExperimentMonitor m = monitors.get(p.experimentId());
+                if (m == null || m.planVersion() != p.version()) {
+                    monitors.put(p.experimentId(), ExperimentMonitor.of(PlanParser.parseJson(p.planJson()), p.version()));
+                }
             }
+            LOG.infof("%d stopping plans active", monitors.size());
+        } finally {
+            loaded.countDown();
         }
-        LOG.infof("%d stopping plans active", monitors.size());
+    }
+
+    /**
+     * Blocks until the plans are loaded at start. The Kafka consumer may start polling before that; a
+     * snapshot evaluated earlier would find no plan and be dead-lettered as an unknown experiment.
+     */
+    public void awaitLoaded() {
+        try {
+            while (!loaded.await(10, TimeUnit.SECONDS)) {
+                LOG.info("ingest waits for the stopping plans to be loaded");
+            }
+        } catch (InterruptedException e) {
+            Thread.currentThread().interrupt();
+            throw new IllegalStateException("interrupted while waiting for the plans to be loaded", e);
+        }
     }
 
     private void loadDirectory() {
@@ -106,10 +124,12 @@ public class PlanRegistry {
      * @throws PlanException with every problem, when the document is not a valid plan
      */
     public synchronized Result register(byte[] document, PlanParser.Format format, String actor) {
-        Plan plan = parse(document, format);
+        ExperimentMonitor checked = parse(document, format);
+        Plan plan = checked.plan();
         String hash = PlanCanonical.sha256(plan);
         Optional<Store.StoredPlan> old = store.plan(plan.experiment());
         if (old.isPresent() && old.get().contentHash().equals(hash)) {
+            monitors.putIfAbsent(plan.experiment(), checked.atVersion(old.get().version()));
             return new Result(Outcome.UNCHANGED, plan.experiment(), old.get().version(), "same plan already registered");
         }
         if (old.isPresent() && old.get().locked()) {
@@ -120,7 +140,7 @@ public class PlanRegistry {
         }
         int version = store.savePlan(plan.experiment(), PlanCanonical.toJson(plan), source(document), hash, actor,
                 old.isPresent() ? "replaced" : "registered", null, null, clock.instant());
-        monitors.put(plan.experiment(), ExperimentMonitor.of(plan, version));
+        monitors.put(plan.experiment(), checked.atVersion(version));
         return new Result(old.isPresent() ? Outcome.REPLACED : Outcome.CREATED, plan.experiment(), version,
                 old.isPresent() ? "plan replaced (not locked yet)" : "plan registered");
     }
@@ -132,7 +152,8 @@ public class PlanRegistry {
      */
     public synchronized Result amend(String experiment, byte[] document, PlanParser.Format format, String actor,
                                      String reason) {
-        Plan plan = parse(document, format);
+        ExperimentMonitor checked = parse(document, format);
+        Plan plan = checked.plan();
         List<PlanProblem> problems = new ArrayList<>();
         if (!plan.experiment().equals(experiment)) {
             problems.add(new PlanProblem("experiment", "amendment is for " + experiment + ", document names "
@@ -158,7 +179,7 @@ public class PlanRegistry {
         String hash = PlanCanonical.sha256(plan);
         int version = store.savePlan(experiment, PlanCanonical.toJson(plan), source(document), hash, actor, "amended",
                 spent, reason, clock.instant());
-        monitors.put(experiment, ExperimentMonitor.of(plan, version));
+        monitors.put(experiment, checked.atVersion(version));
         return new Result(Outcome.AMENDED, experiment, version, "amendment recorded; alpha already spent "
                 + spent + " is kept");
     }
@@ -187,11 +208,10 @@ public class PlanRegistry {
         }
     }
 
-    private static Plan parse(byte[] document, PlanParser.Format format) {
+    /** The plan as a monitor (version 0): the engine must accept it too (sizing, boundaries). */
+    private static ExperimentMonitor parse(byte[] document, PlanParser.Format format) {
         try {
-            Plan plan = PlanParser.parse(document, format);
-            ExperimentMonitor.of(plan, 0); // the engine must accept it too (sizing, boundaries)
-            return plan;
+            return ExperimentMonitor.of(PlanParser.parse(document, format), 0);
         } catch (StatsException e) {
             throw new PlanException(List.of(new PlanProblem("primary", e.getMessage())));
         }

@@ -31,6 +31,8 @@ public class StoplineMetrics {
     private final Timer evaluation;
     private final Map<String, AtomicLong> fractions = new ConcurrentHashMap<>();
     private final Map<String, AtomicLong> zs = new ConcurrentHashMap<>();
+    /** Counters by name and tag value: registering is a lookup with allocation, done once per series. */
+    private final Map<String, Counter> counters = new ConcurrentHashMap<>();
 
     @Inject
     public StoplineMetrics(MeterRegistry registry) {
@@ -40,15 +42,20 @@ public class StoplineMetrics {
     }
 
     public void snapshot(String outcome) {
-        Counter.builder("stopline.snapshots").tag("outcome", outcome).register(registry).increment();
+        counter("stopline.snapshots", "outcome", outcome).increment();
     }
 
     public void deadLetter(String reason) {
-        Counter.builder("stopline.dead_letters").tag("reason", reason).register(registry).increment();
+        counter("stopline.dead_letters", "reason", reason).increment();
     }
 
     public void alert(String kind) {
-        Counter.builder("stopline.alerts").tag("kind", kind).register(registry).increment();
+        counter("stopline.alerts", "kind", kind).increment();
+    }
+
+    private Counter counter(String name, String tag, String value) {
+        return counters.computeIfAbsent(name + '|' + value,
+                k -> Counter.builder(name).tag(tag, value).register(registry));
     }
 
     public void evaluated(Monitoring.Evaluated e, long nanos) {
@@ -56,7 +63,7 @@ public class StoplineMetrics {
         evaluation.record(nanos, TimeUnit.NANOSECONDS);
         String experiment = e.snapshot().experiment();
         for (LookRecord l : e.evaluation().looks()) {
-            Counter.builder("stopline.looks").tag("role", l.role()).register(registry).increment();
+            counter("stopline.looks", "role", l.role()).increment();
             if (l.z() != null) {
                 gauge(zs, "stopline.z", experiment, l.metric()).set(Double.doubleToLongBits(l.z()));
             }
