@@ -242,7 +242,7 @@ public final class LoadBenchmark {
                     + "%,.0f snapshots/s", seconds(tEnd - t0), total / seconds(tEnd - t0)));
             Scrape scrape = Scrape.of(daemon);
             report.add(String.format(Locale.ROOT, "  outcomes %s; dead letters %.0f (must be 0: %s); alerts raised %s",
-                    scrape.snapshotOutcomes(), scrape.deadLetters(), scrape.deadLetters() == 0 ? "met" : "MISSED",
+                    scrape.snapshotOutcomes(), scrape.deadLetters(), deadLetterVerdict(scrape),
                     scrape.byLabel("stopline_alerts_total", "kind")));
             report.add(latency(daemon, alerts, scrape.alertsRaised(), sentAt, rounds, tEnd, Long.MAX_VALUE));
         }
@@ -252,6 +252,12 @@ public final class LoadBenchmark {
         report.add(String.format(Locale.ROOT, "  heap after jcmd GC.run at the end: used %.1f MiB "
                         + "(jvm_memory_used_bytes{area=\"heap\"}), live %.1f MiB (jvm_gc_live_data_size_bytes); -Xmx%s",
                 heap.heapUsedBytes() / (1024.0 * 1024.0), heap.liveAfterGcBytes() / (1024.0 * 1024.0), s.xmx()));
+    }
+
+    /** "met" without dead letters, else their counts by reason. */
+    private static String deadLetterVerdict(Scrape scrape) {
+        return scrape.deadLetters() == 0 ? "met"
+                : "MISSED, by reason " + scrape.byLabel("stopline_dead_letters_total", "reason");
     }
 
     /** Whether the experiment's last evaluated sequence has reached {@code sequence}. */
@@ -514,7 +520,7 @@ public final class LoadBenchmark {
                     + "behind the group's committed offset (commits are throttled); drained in %.1f s", processedLag,
                     committedLag, drain));
             report.add(String.format(Locale.ROOT, "  outcomes %s; dead letters %.0f (must be 0: %s); alerts raised %s",
-                    scrape.snapshotOutcomes(), scrape.deadLetters(), scrape.deadLetters() == 0 ? "met" : "MISSED",
+                    scrape.snapshotOutcomes(), scrape.deadLetters(), deadLetterVerdict(scrape),
                     scrape.byLabel("stopline_alerts_total", "kind")));
             report.add(latency(daemon, alerts, scrape.alertsRaised(), sentAt, capacity, tStop, t0 + duration / 2));
             report.add(String.format(Locale.ROOT, "  once drained (stream stopped, not in the slope): live heap "
