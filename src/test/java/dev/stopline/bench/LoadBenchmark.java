@@ -64,7 +64,7 @@ import org.apache.kafka.clients.producer.ProducerRecord;
  * the stream stops, the time to drain, the heap once drained (idle, so not in the slope) and the
  * produce-to-alert latency of the alerts raised, all and those sent in the second half (a fresh daemon
  * fell behind for its first half minute in our runs: JIT warm-up, and first-snapshot work such as locking
- * each experiment's plan).
+ * each experiment's plan; the full collection forced at every sample also delays a few alerts).
  *
  * <p>{@code -Dload.jfr=/tmp/load.jfr} makes the daemon write a flight recording (registration included).
  *
