@@ -17,6 +17,7 @@ import java.nio.file.Files;
 import java.nio.file.Path;
 import java.nio.file.StandardCopyOption;
 import java.time.Duration;
+import java.time.Instant;
 import java.util.ArrayList;
 import java.util.HashSet;
 import java.util.List;
@@ -36,6 +37,8 @@ import org.junit.jupiter.api.Test;
  * more often than the daemon retries in one go (so the alert goes back to the outbox and is sent again in
  * a later round), and one that answers 410 Gone. The first two get every alert exactly once with a valid
  * signature, the third is asked once and then left alone, and the outbox records each channel's outcome.
+ * Meanwhile the alerts reach the Kafka topic within seconds: a webhook endpoint that is down delays only
+ * its own deliveries.
  * The unit tests of the retry rules ({@code WebhookDeliveryTest}) use a stub clock and sleeper; this one
  * runs the packaged daemon against real sockets.
  */
@@ -45,7 +48,12 @@ class DaemonWebhookOutageIT {
     /** Failures of the flaky endpoint: more than one round's 8 attempts (RetryPolicy.defaults). */
     private static final int FLAKY_FAILURES = 10;
     /** How long the late endpoint stays down after the alerts exist. */
-    private static final Duration LATE_BY = Duration.ofSeconds(4);
+    private static final Duration LATE_BY = Duration.ofSeconds(6);
+    /**
+     * Longest wait from an alert's commit to its delivery on the Kafka topic while webhook endpoints are
+     * down: a dispatcher round starts every second, so 3 s leaves room for a busy machine (our choice).
+     */
+    private static final Duration KAFKA_WITHIN = Duration.ofSeconds(3);
 
     private static String id(int e) {
         return "webhook-outage-" + e;
@@ -115,6 +123,10 @@ class DaemonWebhookOutageIT {
                 late = WebhookReceiver.start(latePort);
 
                 Map<String, JsonNode> outbox = awaitOutbox(daemon, expected, Duration.ofSeconds(60));
+                Map<String, Instant> created = new TreeMap<>();
+                for (JsonNode a : new ObjectMapper().readTree(daemon.getBody("/api/alerts"))) {
+                    created.put(a.path("alert").path("id").asText(), Instant.parse(a.path("createdAt").asText()));
+                }
                 int flakyRounds = 0;
                 for (String alert : expected) {
                     assertEquals("delivered", status(outbox, alert, "log"), alert + ": log");
@@ -123,6 +135,10 @@ class DaemonWebhookOutageIT {
                     assertEquals("delivered", status(outbox, alert, "webhook:" + flaky.url()), alert + ": flaky endpoint");
                     assertEquals("abandoned", status(outbox, alert, "webhook:" + gone.url()), alert + ": 410 endpoint");
                     flakyRounds += outbox.get(alert + " webhook:" + flaky.url()).path("attempts").asInt();
+                    Duration toKafka = Duration.between(created.get(alert),
+                            Instant.parse(outbox.get(alert + " kafka").path("deliveredAt").asText()));
+                    assertTrue(toKafka.compareTo(KAFKA_WITHIN) <= 0, alert + ": on the Kafka topic " + toKafka
+                            + " after it was raised, while webhook endpoints were down (at most " + KAFKA_WITHIN + ")");
                 }
                 assertTrue(flakyRounds > expected.size(), "an alert to the flaky endpoint went back to the outbox "
                         + "and was sent in a later round: " + flakyRounds + " rounds for " + expected.size() + " alerts");
