@@ -143,11 +143,11 @@ class DaemonDatabaseOutageIT {
      * for an evaluation defect and dead-lettered as {@code evaluation-error}, so a valid snapshot is never
      * evaluated. A read-only database shows it every time; a stopped server that comes back between a
      * failed write and that check shows it by chance (seen once in three runs of the test above before its
-     * restart moment was chosen). Run it with {@code -Dstopline.it.ingest-race=true}: it fails until the
+     * restart moment was chosen). Run it with {@code -Dstopline.it.known-ingest-defect=true}: it fails until the
      * ingest tells a database that refuses writes from a record that cannot be evaluated.
      */
     @Test
-    @EnabledIfSystemProperty(named = "stopline.it.ingest-race", matches = "true")
+    @EnabledIfSystemProperty(named = "stopline.it.known-ingest-defect", matches = "true")
     void databaseRefusingWrites_holdsTheStream_insteadOfDeadLetteringValidSnapshots(TestReporter report)
             throws Exception {
         outage("b", Fault.READ_ONLY, report);
