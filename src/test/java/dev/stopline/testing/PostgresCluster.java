@@ -22,7 +22,8 @@ import org.junit.jupiter.api.extension.ExtensionContext;
  * under {@value #BIN}), a fresh data directory in a temporary directory owned by {@code postgres}, trust
  * authentication, a free loopback port, its Unix socket in the same temporary directory (so it never
  * touches {@code /var/run/postgresql} or a system cluster), and one database, {@value #DATABASE}.
- * Stopped ({@code -m immediate}, bounded) and deleted after the class. Start-up takes about 2 s.
+ * Stopped ({@code -m immediate}, bounded) and deleted after the class. Start-up takes about 2 s. A test of a
+ * database outage can {@link #halt()} it and {@link #startAgain()} on the same data directory and port.
  *
  * <p>PostgreSQL refuses to run as root, so when the tests run as root every command is run as the
  * {@code postgres} user through {@code runuser}; as any other user the commands run directly.
@@ -82,10 +83,7 @@ public final class PostgresCluster implements BeforeAllCallback, AfterAllCallbac
             port = FreePorts.pick();
             run(List.of(bin.resolve("initdb").toString(), "-D", data().toString(), "-A", "trust", "-U", SUPERUSER, "-E", "UTF8",
                     "--locale=C", "--no-sync"), true);
-            // fsync off: a test cluster is thrown away, durability across power loss is not under test here
-            run(List.of(bin.resolve("pg_ctl").toString(), "-D", data().toString(), "-l", dir.resolve("server.log").toString(),
-                    "-o", "-p " + port + " -k " + dir + " -c listen_addresses=127.0.0.1 -c fsync=off",
-                    "-w", "-t", "30", "start"), true);
+            startServer();
             try (Connection c = DriverManager.getConnection(url("postgres"), SUPERUSER, "");
                  Statement s = c.createStatement()) {
                 s.execute("CREATE DATABASE " + DATABASE);
@@ -98,6 +96,44 @@ public final class PostgresCluster implements BeforeAllCallback, AfterAllCallbac
             stop();
             throw new IllegalStateException("cannot start the PostgreSQL test cluster: " + e.getMessage()
                     + (log.isEmpty() ? "" : "\nserver log:\n" + log), e);
+        }
+    }
+
+    /** pg_ctl start on the cluster's data directory, port and socket directory; waits until it accepts connections. */
+    private void startServer() throws IOException {
+        // fsync off: a test cluster is thrown away, durability across power loss is not under test here
+        run(List.of(bin.resolve("pg_ctl").toString(), "-D", data().toString(), "-l", dir.resolve("server.log").toString(),
+                "-o", "-p " + port + " -k " + dir + " -c listen_addresses=127.0.0.1 -c fsync=off",
+                "-w", "-t", "30", "start"), true);
+    }
+
+    /**
+     * An outage: stops the server as a crash would ({@code -m immediate}: every connection is cut, no
+     * checkpoint) but keeps its data directory, so that {@link #startAgain()} brings the same database back
+     * on the same port.
+     */
+    public void halt() {
+        if (dir == null) {
+            throw new IllegalStateException("the cluster is not running");
+        }
+        try {
+            run(List.of(bin.resolve("pg_ctl").toString(), "-D", data().toString(), "-m", "immediate", "-w", "-t", "10",
+                    "stop"), true);
+        } catch (IOException e) {
+            throw new UncheckedIOException("cannot stop the PostgreSQL test cluster", e);
+        }
+    }
+
+    /** Starts the server again after {@link #halt()}: same data directory, port and socket (crash recovery runs). */
+    public void startAgain() {
+        if (dir == null) {
+            throw new IllegalStateException("the cluster was deleted; use start()");
+        }
+        try {
+            startServer();
+        } catch (IOException | RuntimeException e) {
+            throw new IllegalStateException("cannot start the PostgreSQL test cluster again: " + e.getMessage()
+                    + "\nserver log:\n" + serverLog(), e);
         }
     }
 

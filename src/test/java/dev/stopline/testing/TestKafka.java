@@ -46,8 +46,13 @@ public final class TestKafka {
 
     /** Every record of a topic from the beginning, read until {@code quiet} passes with nothing new. */
     public static List<ConsumerRecord<String, byte[]>> readAll(String topic, Duration quiet) {
+        return readAll(KafkaBrokerExtension.bootstrapServers(), topic, quiet);
+    }
+
+    /** Every record of a topic on the broker at {@code servers}, read until {@code quiet} passes with nothing new. */
+    public static List<ConsumerRecord<String, byte[]>> readAll(String servers, String topic, Duration quiet) {
         Properties p = new Properties();
-        p.put("bootstrap.servers", KafkaBrokerExtension.bootstrapServers());
+        p.put("bootstrap.servers", servers);
         p.put("group.id", "test-reader-" + UUID.randomUUID());
         p.put("auto.offset.reset", "earliest");
         p.put("key.deserializer", StringDeserializer.class.getName());
