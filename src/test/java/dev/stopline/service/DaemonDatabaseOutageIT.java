@@ -44,7 +44,6 @@ import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.TestReporter;
-import org.junit.jupiter.api.condition.EnabledIfSystemProperty;
 
 /**
  * PostgreSQL goes away under a running daemon (a crash-like stop of the server, about 10 s, while more
@@ -138,16 +137,12 @@ class DaemonDatabaseOutageIT {
     }
 
     /**
-     * Known defect, reported, not fixed here (the ingest is being rewritten): when a write fails but the
-     * database answers {@code CountsIngest.accept}'s {@code store.reachable()} check, the record is taken
-     * for an evaluation defect and dead-lettered as {@code evaluation-error}, so a valid snapshot is never
-     * evaluated. A read-only database shows it every time; a stopped server that comes back between a
-     * failed write and that check shows it by chance (seen once in three runs of the test above before its
-     * restart moment was chosen). Run it with {@code -Dstopline.it.known-ingest-defect=true}: it fails until the
-     * ingest tells a database that refuses writes from a record that cannot be evaluated.
+     * The server answers but refuses every write for a while (read-only, as a standby during a failover):
+     * the ingest holds the stream and retries instead of taking the refusal for a record it cannot
+     * evaluate (it dead-lettered every such snapshot as {@code evaluation-error} before it asked the
+     * database's SQLSTATE).
      */
     @Test
-    @EnabledIfSystemProperty(named = "stopline.it.known-ingest-defect", matches = "true")
     void databaseRefusingWrites_holdsTheStream_insteadOfDeadLetteringValidSnapshots(TestReporter report)
             throws Exception {
         outage("b", Fault.READ_ONLY, report);

@@ -32,13 +32,15 @@ import org.jboss.logging.Logger;
  * after a crash or a rebalance) is acknowledged without any effect. The database write and the state
  * change are one transaction, so there is no window in which a look is stored but the state is not.
  *
- * <p>When the database is unavailable the consumer does not drop anything: the record is retried
- * with capped backoff, which holds the partition until the database is back.
+ * <p>When the database is unavailable or refuses writes the consumer does not drop anything: the
+ * record is retried with capped backoff, which holds the partition until the database is back.
  */
 @ApplicationScoped
 public class CountsIngest {
     private static final Logger LOG = Logger.getLogger(CountsIngest.class);
     private static final Duration MAX_BACKOFF = Duration.ofSeconds(5);
+    /** Attempts of a record whose write fails for no reason the database gives, while it answers. */
+    static final int ATTEMPTS_BEFORE_QUARANTINE = 3;
 
     private final Store store;
     private final PlanRegistry plans;
@@ -62,25 +64,33 @@ public class CountsIngest {
         this.monitoring = new Monitoring(SnapshotParser.withDefaults().withMaxBytes(maxBytes), plans::monitor);
     }
 
-    /** Handles one record; returns only when its effect is durable. */
+    /**
+     * Handles one record; returns only when its effect is durable. A database failure holds the record
+     * (and so the partition) and retries with capped backoff, for as long as it takes, when the database
+     * is down or says the failure is its state (read-only, connection, shutdown; see
+     * {@link Store.StoreException#transientFailure}). A failure the database does not explain, while it
+     * answers, is retried {@value #ATTEMPTS_BEFORE_QUARANTINE} times in all before the record is
+     * quarantined: a valid snapshot must not be dead-lettered because of a moment's race with a restart.
+     */
     public void accept(ConsumerRecord<String, byte[]> record) {
         plans.awaitLoaded();
         long backoff = 100;
+        int unexplained = 0;
         while (true) {
             try {
                 handle(record);
                 return;
             } catch (Store.StoreException e) {
                 cache.clear();
-                if (!store.reachable()) {
-                    LOG.warnf("database unavailable (%s); holding %s-%d@%d and retrying in %d ms", e.getMessage(),
-                            record.topic(), record.partition(), record.offset(), backoff);
-                    sleep(backoff);
-                    backoff = Math.min(MAX_BACKOFF.toMillis(), backoff * 2);
-                    continue;
+                boolean hold = e.transientFailure() || !store.reachable();
+                if (!hold && ++unexplained >= ATTEMPTS_BEFORE_QUARANTINE) {
+                    quarantine(record, e);
+                    return;
                 }
-                quarantine(record, e);
-                return;
+                LOG.warnf("database unavailable (%s); holding %s-%d@%d and retrying in %d ms", e.getMessage(),
+                        record.topic(), record.partition(), record.offset(), backoff);
+                sleep(backoff);
+                backoff = Math.min(MAX_BACKOFF.toMillis(), backoff * 2);
             } catch (RuntimeException e) {
                 quarantine(record, e);
                 return;

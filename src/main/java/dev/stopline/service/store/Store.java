@@ -541,5 +541,33 @@ public class Store {
         StoreException(SQLException cause) {
             super(cause.getMessage(), cause);
         }
+
+        /**
+         * Whether the failure is the database's state rather than the statement's: a lost or refused
+         * connection, a server shutting down or out of resources, a read-only server (a standby during a
+         * failover), a serialization failure or deadlock. Such a write is held and retried, never given up.
+         * Decided from JDBC 4's exception classes and the SQLSTATE (SQL standard classes 08 and 40,
+         * 25006; PostgreSQL's 53 and 57; H2's 90098 database closed and 90097 read-only).
+         */
+        public boolean transientFailure() {
+            for (Throwable t = getCause(); t != null; t = t.getCause()) {
+                if (t instanceof java.sql.SQLTransientException || t instanceof java.sql.SQLRecoverableException
+                        || t instanceof java.sql.SQLNonTransientConnectionException) {
+                    return true;
+                }
+                if (t instanceof SQLException e && transientState(e.getSQLState())) {
+                    return true;
+                }
+            }
+            return false;
+        }
+
+        static boolean transientState(String state) {
+            if (state == null) {
+                return false;
+            }
+            return state.startsWith("08") || state.startsWith("40") || state.startsWith("53") || state.startsWith("57")
+                    || state.equals("25006") || state.equals("HYT00") || state.equals("90098") || state.equals("90097");
+        }
     }
 }
