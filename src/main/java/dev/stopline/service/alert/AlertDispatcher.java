@@ -129,16 +129,41 @@ public class AlertDispatcher {
     }
 
     /**
-     * Delivers every due outbox row once: log and Kafka rows here, webhook rows handed to their endpoint's
+     * Delivers every due outbox row once: Kafka and log rows here, webhook rows handed to their endpoint's
      * thread (unless that row is still being delivered there). Returns how many rows were delivered here.
+     * The alert topic goes first, all its records sent before any acknowledgement is awaited, so a burst
+     * of alerts costs one round trip rather than one each (machines act on the topic; the log line
+     * follows, each delivery records its attempt in a transaction).
      */
     public synchronized int drain() {
         int delivered = 0;
-        for (Store.OutboxItem item : store.dueDeliveries(clock.instant(), 100)) {
-            if (item.channel().startsWith(WEBHOOK)) {
+        List<Store.OutboxItem> due = store.dueDeliveries(clock.instant(), 100);
+        Map<Store.OutboxItem, CompletableFuture<Void>> sent = new java.util.LinkedHashMap<>();
+        for (Store.OutboxItem item : due) {
+            if (KAFKA.equals(item.channel())) {
+                try {
+                    sent.put(item, sendToTopic(item.alert()));
+                } catch (RuntimeException e) {
+                    retry(item, e.getMessage());
+                }
+            } else if (item.channel().startsWith(WEBHOOK)) {
                 handToLane(item);
-            } else if (deliver(item)) {
-                delivered++;
+            }
+        }
+        for (Map.Entry<Store.OutboxItem, CompletableFuture<Void>> e : sent.entrySet()) {
+            try {
+                e.getValue().get(30, TimeUnit.SECONDS);
+                delivered += done(e.getKey()) ? 1 : 0;
+            } catch (Exception failed) {
+                if (failed instanceof InterruptedException) {
+                    Thread.currentThread().interrupt();
+                }
+                retry(e.getKey(), "alert topic write failed: " + failed.getMessage());
+            }
+        }
+        for (Store.OutboxItem item : due) {
+            if (!KAFKA.equals(item.channel()) && !item.channel().startsWith(WEBHOOK)) { // the log, or unknown
+                delivered += deliver(item) ? 1 : 0;
             }
         }
         return delivered;
@@ -178,10 +203,6 @@ public class AlertDispatcher {
                 return done(item);
             }
             byte[] body = events.toBytes(envelope(alert));
-            if (KAFKA.equals(item.channel())) {
-                sendToTopic(alert, new String(body, StandardCharsets.UTF_8));
-                return done(item);
-            }
             if (item.channel().startsWith(WEBHOOK)) {
                 URI url = URI.create(item.channel().substring(WEBHOOK.length()));
                 EndpointResult r = webhooks.deliverTo(url, alert.id(), body, CloudEvents.STRUCTURED_CONTENT_TYPE);
@@ -215,7 +236,9 @@ public class AlertDispatcher {
                 clock.instant());
     }
 
-    private void sendToTopic(Alert alert, String cloudEvent) {
+    /** Sends the alert's CloudEvent to the alert topic; the future completes when the broker acknowledged it. */
+    private CompletableFuture<Void> sendToTopic(Alert alert) {
+        String cloudEvent = new String(events.toBytes(envelope(alert)), StandardCharsets.UTF_8);
         RecordHeaders headers = new RecordHeaders();
         headers.add("content-type", CloudEvents.STRUCTURED_CONTENT_TYPE.getBytes(StandardCharsets.UTF_8));
         OutgoingKafkaRecordMetadata<String> meta = OutgoingKafkaRecordMetadata.<String>builder()
@@ -230,11 +253,7 @@ public class AlertDispatcher {
                     acked.completeExceptionally(e);
                     return CompletableFuture.completedFuture(null);
                 }));
-        try {
-            acked.get(30, TimeUnit.SECONDS);
-        } catch (Exception e) {
-            throw new IllegalStateException("alert topic write failed: " + e.getMessage(), e);
-        }
+        return acked;
     }
 
     static AlertEnvelope envelope(Alert alert) {
