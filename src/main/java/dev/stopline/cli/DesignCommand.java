@@ -29,23 +29,14 @@ import picocli.CommandLine.Spec;
  * boundaries, the alpha spent, the inflation factor and, when an effect is given, the sample size per arm.
  *
  * <p>Every bad option ends in one line on stderr naming the option and the rule, and exit code 2: the
- * command throws {@link ParameterException}, and {@link #ONE_LINE_ERRORS} prints just its message (install it
- * with {@code commandLine.setParameterExceptionHandler(DesignCommand.ONE_LINE_ERRORS)}; {@link #commandLine()}
- * does so). Rules broken inside the statistics core ({@link StatsException}) are re-thrown naming the option
- * that carried the value.
+ * command throws {@link ParameterException}, and {@link CliErrors#ONE_LINE} prints just its message
+ * ({@link #commandLine()} installs it, as {@code Main} does for every subcommand). Rules broken inside the
+ * statistics core ({@link StatsException}) are re-thrown naming the option that carried the value.
  */
 @Command(name = "design", mixinStandardHelpOptions = true,
         description = {"Plan a group-sequential test: efficacy/futility boundaries per look, alpha spent,",
             "inflation factor and sample size per arm."})
 public final class DesignCommand implements Callable<Integer> {
-
-    /** Prints only the error message (one line) to the error writer and returns exit code 2. */
-    public static final CommandLine.IParameterExceptionHandler ONE_LINE_ERRORS = (ex, args) -> {
-        CommandLine cmd = ex.getCommandLine();
-        cmd.getErr().println(ex.getMessage());
-        cmd.getErr().flush();
-        return cmd.getCommandSpec().exitCodeOnInvalidInput();
-    };
 
     static final String NON_BINDING_NOTE = "efficacy boundaries computed as if futility did not exist";
     private static final int MAX_LOOKS = 200;
@@ -108,7 +99,7 @@ public final class DesignCommand implements Callable<Integer> {
     /** A command line for this command with one-line error messages. */
     public static CommandLine commandLine() {
         CommandLine cmd = new CommandLine(new DesignCommand());
-        cmd.setParameterExceptionHandler(ONE_LINE_ERRORS);
+        cmd.setParameterExceptionHandler(CliErrors.ONE_LINE);
         return cmd;
     }
 

@@ -26,7 +26,7 @@ public final class Main {
         CommandLine cli = new CommandLine(new StoplineCommand());
         cli.setCaseInsensitiveEnumValuesAllowed(true);
         // one line naming the option and the rule, exit code 2 (no usage dump after it)
-        cli.setParameterExceptionHandler(DesignCommand.ONE_LINE_ERRORS);
+        cli.setParameterExceptionHandler(CliErrors.ONE_LINE);
         return cli;
     }
 }

@@ -14,7 +14,7 @@ import org.junit.jupiter.api.Test;
 class BenchCommandTest {
     @Test
     void bench_printsEveryFigure() {
-        SimulateCommandTest.Run r = SimulateCommandTest.run("bench", "--runs", "2", "--warmup", "1");
+        CliRun r = SimulateCommandTest.run("bench", "--runs", "2", "--warmup", "1");
         assertEquals(0, r.code(), r.err());
         for (String s : new String[] {"K=5", "K=10", "K=100", "median", "p90", "trials/s", "trial-looks/s"}) {
             assertTrue(r.out().contains(s), s + " in " + r.out());

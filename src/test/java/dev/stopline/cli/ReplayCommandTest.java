@@ -14,8 +14,6 @@ import dev.stopline.plan.PlanParser;
 import dev.stopline.wire.Snapshot;
 import dev.stopline.wire.SnapshotParser;
 import java.io.IOException;
-import java.io.PrintWriter;
-import java.io.StringWriter;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
@@ -24,7 +22,6 @@ import java.util.Iterator;
 import java.util.List;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
-import picocli.CommandLine;
 
 /**
  * The {@code replay} command as a user and a script see it: options, exit codes, the JSON contract,
@@ -40,36 +37,20 @@ class ReplayCommandTest {
     Path dir;
 
     /** Runs {@code stopline ARGS} in-process through the jar's command tree. */
-    static Run run(String... args) {
-        CommandLine cli = Main.commandLine();
-        StringWriter out = new StringWriter();
-        StringWriter err = new StringWriter();
-        cli.setOut(new PrintWriter(out));
-        cli.setErr(new PrintWriter(err));
-        int code = cli.execute(args);
-        return new Run(code, out.toString(), err.toString());
-    }
-
-    record Run(int code, String out, String err) {
-        JsonNode json() {
-            try {
-                return JSON.readTree(out);
-            } catch (IOException e) {
-                throw new AssertionError("output is not JSON: " + out, e);
-            }
-        }
+    static CliRun run(String... args) {
+        return CliRun.run(args);
     }
 
     @Test
     void missingPlanOption_isAUsageError() {
-        Run r = run("replay", "--counts", CHECKOUT_STREAM.toString());
+        CliRun r = run("replay", "--counts", CHECKOUT_STREAM.toString());
         assertEquals(2, r.code(), "picocli's exit code for a usage error");
         assertTrue(r.err().startsWith("Missing required option: '--plan=PLAN.yaml'"), r.err());
     }
 
     @Test
     void unknownFormat_isAUsageErrorNamingTheChoices() {
-        Run r = run("replay", "--plan", CHECKOUT_PLAN.toString(), "--counts", CHECKOUT_STREAM.toString(), "--format", "xml");
+        CliRun r = run("replay", "--plan", CHECKOUT_PLAN.toString(), "--counts", CHECKOUT_STREAM.toString(), "--format", "xml");
         assertEquals(2, r.code());
         assertTrue(r.err().startsWith("Invalid value for option '--format': expected table or json, got 'xml'"), r.err());
     }
@@ -77,7 +58,7 @@ class ReplayCommandTest {
     @Test
     void unreadableCountsFile_exitsWithTwoAndOneLine() {
         Path missing = dir.resolve("missing.jsonl");
-        Run r = run("replay", "--plan", CHECKOUT_PLAN.toString(), "--counts", missing.toString());
+        CliRun r = run("replay", "--plan", CHECKOUT_PLAN.toString(), "--counts", missing.toString());
         assertEquals(2, r.code());
         assertEquals("replay: cannot read counts " + missing + ": NoSuchFile " + missing, r.err().strip());
         assertEquals("", r.out());
@@ -86,7 +67,7 @@ class ReplayCommandTest {
     @Test
     void invalidPlan_exitsWithTwoAndOneLineListingTheProblems() throws IOException {
         Path plan = Files.writeString(dir.resolve("plan.yaml"), "experiment: checkout-redesign\nprimary: 3\n");
-        Run r = run("replay", "--plan", plan.toString(), "--counts", CHECKOUT_STREAM.toString());
+        CliRun r = run("replay", "--plan", plan.toString(), "--counts", CHECKOUT_STREAM.toString());
         assertEquals(2, r.code());
         assertEquals(1, r.err().strip().lines().count(), r.err());
         assertTrue(r.err().startsWith("replay: plan " + plan + " is not valid: "), r.err());
@@ -95,7 +76,7 @@ class ReplayCommandTest {
 
     @Test
     void json_hasTheDocumentedFieldsInTheDocumentedOrder() {
-        Run r = run("replay", "--plan", CHECKOUT_PLAN.toString(), "--counts", CHECKOUT_STREAM.toString(), "--format", "json");
+        CliRun r = run("replay", "--plan", CHECKOUT_PLAN.toString(), "--counts", CHECKOUT_STREAM.toString(), "--format", "json");
         assertEquals(0, r.code(), r.err());
         JsonNode root = r.json();
         assertEquals(List.of("experiment", "looks", "sampleRatio", "alerts", "rejected", "duplicates", "lines", "snapshots"),
@@ -188,7 +169,7 @@ class ReplayCommandTest {
 
     @Test
     void table_showsLooksAlertsWithTheirSummary_andRejectedLines() {
-        Run r = run("replay", "--plan", CHECKOUT_PLAN.toString(), "--counts",
+        CliRun r = run("replay", "--plan", CHECKOUT_PLAN.toString(), "--counts",
                 "simulations/streams/checkout-redesign-bad-lines.jsonl");
         assertEquals(0, r.code(), "rejected lines do not make the replay fail");
         String t = r.out();

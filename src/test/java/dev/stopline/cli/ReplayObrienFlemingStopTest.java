@@ -89,7 +89,7 @@ class ReplayObrienFlemingStopTest {
 
     private List<JsonNode> primaryLooks(Streams.MeanStream stream) throws IOException {
         Path counts = Files.writeString(dir.resolve("counts.jsonl"), stream.jsonl());
-        ReplayCommandTest.Run r = ReplayCommandTest.run("replay", "--plan", planFile.toString(), "--counts",
+        CliRun r = ReplayCommandTest.run("replay", "--plan", planFile.toString(), "--counts",
                 counts.toString(), "--format", "json");
         assertEquals(0, r.code(), r.err());
         JsonNode root = r.json();

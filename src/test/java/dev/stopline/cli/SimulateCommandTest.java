@@ -7,8 +7,6 @@ import static org.junit.jupiter.api.Assertions.assertTrue;
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import java.io.IOException;
-import java.io.PrintWriter;
-import java.io.StringWriter;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.util.List;
@@ -17,25 +15,15 @@ import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.io.TempDir;
 import org.junit.jupiter.params.ParameterizedTest;
 import org.junit.jupiter.params.provider.CsvSource;
-import picocli.CommandLine;
 
 class SimulateCommandTest {
-    record Run(int code, String out, String err) {
-    }
-
-    static Run run(String... args) {
-        CommandLine cli = Main.commandLine();
-        StringWriter out = new StringWriter();
-        StringWriter err = new StringWriter();
-        cli.setOut(new PrintWriter(out));
-        cli.setErr(new PrintWriter(err));
-        int code = cli.execute(args);
-        return new Run(code, out.toString(), err.toString());
+    static CliRun run(String... args) {
+        return CliRun.run(args);
     }
 
     @Test
     void json_hasTheKeysScriptsDependOn() throws IOException {
-        Run r = run("simulate", "--plan", "config/plans/checkout-redesign.yaml", "--trials", "4000", "--data-trials", "20",
+        CliRun r = run("simulate", "--plan", "config/plans/checkout-redesign.yaml", "--trials", "4000", "--data-trials", "20",
                 "--effects", "0,0.005,0.008", "--format", "json");
         assertEquals(0, r.code(), r.err());
         JsonNode root = new ObjectMapper().readTree(r.out());
@@ -60,7 +48,7 @@ class SimulateCommandTest {
 
     @Test
     void sprtPlan_json_isDataLevelMonteCarloWithoutExactFigures() throws IOException {
-        Run r = run("simulate", "--plan", "config/plans/gift-wrap-upsell.yaml", "--trials", "20", "--format", "json");
+        CliRun r = run("simulate", "--plan", "config/plans/gift-wrap-upsell.yaml", "--trials", "20", "--format", "json");
         assertEquals(0, r.code(), r.err());
         JsonNode e = new ObjectMapper().readTree(r.out()).get("effects").get(1);
         assertEquals(0.01, e.get("effect").asDouble(), 0, "default effects: 0 and the SPRT's minimum effect");
@@ -79,7 +67,7 @@ class SimulateCommandTest {
             "--threads|0|--threads: must be in [1, 256]",
             "--traffic|no-such-file.yaml|--traffic: cannot read"})
     void badOption_printsOneLineNamingTheOptionAndRule_exitCode2(String option, String value, String message) {
-        Run r = run("simulate", "--plan", "config/plans/checkout-redesign.yaml", option, value);
+        CliRun r = run("simulate", "--plan", "config/plans/checkout-redesign.yaml", option, value);
         assertEquals(2, r.code(), r.err());
         assertTrue(r.err().startsWith(message), r.err());
         assertEquals(1, r.err().strip().lines().count(), "one line: " + r.err());
@@ -88,7 +76,7 @@ class SimulateCommandTest {
 
     @Test
     void table_labelsEachFigureWithItsMethod() {
-        Run r = run("simulate", "--plan", "config/plans/checkout-redesign.yaml", "--trials", "4000", "--data-trials", "0");
+        CliRun r = run("simulate", "--plan", "config/plans/checkout-redesign.yaml", "--trials", "4000", "--data-trials", "0");
         assertEquals(0, r.code(), r.err());
         assertTrue(r.out().contains("[exact]") && r.out().contains("[MC z-scale]"), r.out());
         assertTrue(r.out().contains("P(efficacy) = type I error"), r.out());
@@ -97,7 +85,7 @@ class SimulateCommandTest {
     @Test
     void report_isOneSelfContainedFile_withTheCharts(@TempDir Path dir) throws IOException {
         Path report = dir.resolve("report.html");
-        Run r = run("simulate", "--plan", "config/plans/checkout-redesign.yaml", "--trials", "4000", "--data-trials", "20",
+        CliRun r = run("simulate", "--plan", "config/plans/checkout-redesign.yaml", "--trials", "4000", "--data-trials", "20",
                 "--traffic", "simulations/traffic/bookshop-checkout.yaml", "--report", report.toString());
         assertEquals(0, r.code(), r.err());
         String html = Files.readString(report);
@@ -116,7 +104,7 @@ class SimulateCommandTest {
     @Test
     void report_sprtPlan_hasThePowerAndStoppingChartsButNoBoundaries(@TempDir Path dir) throws IOException {
         Path report = dir.resolve("gift.html");
-        Run r = run("simulate", "--plan", "config/plans/gift-wrap-upsell.yaml", "--trials", "20", "--report",
+        CliRun r = run("simulate", "--plan", "config/plans/gift-wrap-upsell.yaml", "--trials", "20", "--report",
                 report.toString());
         assertEquals(0, r.code(), r.err());
         String html = Files.readString(report);
