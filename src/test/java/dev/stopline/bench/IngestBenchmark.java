@@ -195,7 +195,7 @@ public final class IngestBenchmark {
                     + "past the warm-up of " + warmCount + ": raise -Dbench.warmupRounds");
         }
         // One partition, handled in order: the last experiment reaching a round means every record before
-        // it is done. Asking for one experiment every 25 ms costs the daemon far less than a metrics scrape.
+        // it is done. Asking for one experiment every 50 ms costs the daemon far less than a metrics scrape.
         String last = tpId(s.experiments() - 1);
         long tWarm = awaitSequence(daemon, last, s.warmupRounds(), Duration.ofSeconds(600));
         long cpuWarm = processCpuNanos(daemon.pid());
@@ -534,7 +534,7 @@ public final class IngestBenchmark {
         return System.nanoTime();
     }
 
-    /** Polls every 25 ms until the experiment's last evaluated sequence reaches {@code sequence}; returns the time then. */
+    /** Polls every 50 ms until the experiment's last evaluated sequence reaches {@code sequence}; returns the time then. */
     private static long awaitSequence(DaemonProcess daemon, String experiment, long sequence, Duration max)
             throws InterruptedException {
         Pattern lastSequence = Pattern.compile("\"lastSequence\"\\s*:\\s*(\\d+)");
@@ -547,7 +547,7 @@ public final class IngestBenchmark {
             if (System.nanoTime() > deadline) {
                 throw new IllegalStateException(experiment + " did not reach sequence " + sequence + " within " + max);
             }
-            Thread.sleep(25);
+            Thread.sleep(50);
         }
     }
 
