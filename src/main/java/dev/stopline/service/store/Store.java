@@ -432,10 +432,24 @@ public class Store {
     }
 
     /** Pending deliveries that are due, oldest first. */
+    /** Due outbox rows of every channel, oldest first. */
     public List<OutboxItem> dueDeliveries(Instant now, int limit) {
+        return dueDeliveries(now, limit, "");
+    }
+
+    /**
+     * Due outbox rows, oldest first: those of webhook channels ({@code webhooks} true) or of all the
+     * others (the alert topic, the log). Asked for separately, so that a backlog of retries for an
+     * endpoint that is down never fills the round and holds back a new alert's topic and log rows.
+     */
+    public List<OutboxItem> dueDeliveries(Instant now, int limit, boolean webhooks) {
+        return dueDeliveries(now, limit, webhooks ? "AND o.channel LIKE 'webhook:%' " : "AND o.channel NOT LIKE 'webhook:%' ");
+    }
+
+    private List<OutboxItem> dueDeliveries(Instant now, int limit, String channelCondition) {
         return query("SELECT o.alert_id, o.channel, o.attempts, a.payload_json FROM outbox o JOIN alert a "
                         + "ON a.alert_id = o.alert_id WHERE o.status = 'pending' AND o.next_attempt_at <= ? "
-                        + "ORDER BY o.next_attempt_at, o.alert_id LIMIT " + Math.max(1, limit),
+                        + channelCondition + "ORDER BY o.next_attempt_at, o.alert_id LIMIT " + Math.max(1, limit),
                 ps -> ps.setTimestamp(1, Timestamp.from(now)),
                 rs -> new OutboxItem(rs.getString(1), rs.getString(2), rs.getInt(3),
                         Json.read(rs.getString(4), Alert.class)));

@@ -237,6 +237,43 @@ abstract class StoreContractTest {
         assertEquals(T0.plusSeconds(1), byChannel.get(CHANNELS.get(0)).deliveredAt());
     }
 
+    /**
+     * An endpoint that is down leaves its rows due again and again; asked for together with the others,
+     * more of them than a round takes would hide a new alert's topic row behind them.
+     */
+    @Test
+    void outbox_webhookRetriesDue_doNotHideANewAlertsTopicRow() {
+        String webhook = CHANNELS.get(1);
+        List<String> older = new java.util.ArrayList<>();
+        for (int i = 0; i < 3; i++) {
+            String id = "store-backlog-" + i;
+            savePlan(id, "registered", T0);
+            String alertId = store.commitEvaluation(evaluate(id, Counts.proportion(id, 1, "orders", 1100, 110, 900, 90)),
+                    "sample-ratio-mismatch", new Store.Position(0, 1L), CHANNELS, T0).get(0).id();
+            store.recordAttempt(alertId, "kafka", "delivered", null, null, T0);
+            store.recordAttempt(alertId, webhook, "pending", T0.plusSeconds(30), "connection refused", T0);
+            older.add(alertId);
+        }
+        String fresh = "store-backlog-new";
+        savePlan(fresh, "registered", T0);
+        Instant later = T0.plusSeconds(60);
+        String newAlert = store.commitEvaluation(evaluate(fresh, Counts.proportion(fresh, 1, "orders", 1100, 110, 900,
+                90)), "sample-ratio-mismatch", new Store.Position(0, 1L), CHANNELS, later).get(0).id();
+
+        List<Store.OutboxItem> together = store.dueDeliveries(later, 3).stream()
+                .filter(o -> older.contains(o.alertId()) || o.alertId().equals(newAlert)).toList();
+        assertTrue(together.stream().allMatch(o -> older.contains(o.alertId())),
+                "the failure mode: asked together, the three older webhook retries fill a round of three");
+
+        List<Store.OutboxItem> topicAndLog = store.dueDeliveries(later, 3, false);
+        assertTrue(topicAndLog.stream().anyMatch(o -> o.alertId().equals(newAlert) && o.channel().equals("kafka")),
+                () -> "the new alert's topic row is due: " + topicAndLog);
+        assertTrue(topicAndLog.stream().noneMatch(o -> o.channel().startsWith("webhook:")));
+        List<Store.OutboxItem> hooks = store.dueDeliveries(later, 100, true);
+        assertTrue(hooks.stream().allMatch(o -> o.channel().startsWith("webhook:")));
+        assertTrue(hooks.stream().map(Store.OutboxItem::alertId).toList().containsAll(older));
+    }
+
     @Test
     void acknowledge_keepsTheFirstAcknowledgement_andAnUnknownAlertIsRefused() {
         String id = "store-ack";
