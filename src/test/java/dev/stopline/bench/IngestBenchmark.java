@@ -1,5 +1,13 @@
 package dev.stopline.bench;
 
+import static dev.stopline.bench.BenchSupport.endOffset;
+import static dev.stopline.bench.BenchSupport.jcmd;
+import static dev.stopline.bench.BenchSupport.millis;
+import static dev.stopline.bench.BenchSupport.percentile;
+import static dev.stopline.bench.BenchSupport.producer;
+import static dev.stopline.bench.BenchSupport.seconds;
+import static dev.stopline.bench.BenchSupport.tail;
+
 import com.fasterxml.jackson.databind.JsonNode;
 import com.fasterxml.jackson.databind.ObjectMapper;
 import dev.stopline.service.broker.EmbeddedKafka;
@@ -8,8 +16,6 @@ import dev.stopline.testing.DaemonProcess;
 import dev.stopline.testing.FreePorts;
 import dev.stopline.testing.KafkaBrokerExtension;
 import java.io.IOException;
-import java.io.UncheckedIOException;
-import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.time.Duration;
@@ -35,7 +41,6 @@ import org.apache.kafka.clients.producer.ProducerRecord;
 import org.apache.kafka.common.TopicPartition;
 import org.apache.kafka.common.serialization.ByteArrayDeserializer;
 import org.apache.kafka.common.serialization.StringDeserializer;
-import org.apache.kafka.common.serialization.StringSerializer;
 
 /**
  * Ingest benchmark of the packaged daemon on loopback: a real embedded broker in this JVM, the daemon
@@ -491,24 +496,6 @@ public final class IngestBenchmark {
         return sum;
     }
 
-    private static String jcmd(long pid, String command) {
-        Path jcmd = Path.of(System.getProperty("java.home"), "bin", "jcmd");
-        try {
-            Process p = new ProcessBuilder(jcmd.toString(), Long.toString(pid), command).redirectErrorStream(true)
-                    .start();
-            String out = new String(p.getInputStream().readAllBytes(), StandardCharsets.UTF_8);
-            if (!p.waitFor(60, TimeUnit.SECONDS) || p.exitValue() != 0) {
-                throw new IllegalStateException("jcmd " + command + " failed: " + out);
-            }
-            return out;
-        } catch (IOException e) {
-            throw new UncheckedIOException(e);
-        } catch (InterruptedException e) {
-            Thread.currentThread().interrupt();
-            throw new IllegalStateException(e);
-        }
-    }
-
     // ------------------------------------------------------------------ metrics and plumbing
 
     /** Every snapshot the daemon has finished with: all outcomes plus dead letters. */
@@ -583,28 +570,6 @@ public final class IngestBenchmark {
         return Double.parseDouble(metricLine.substring(metricLine.lastIndexOf(' ') + 1));
     }
 
-    private static KafkaProducer<String, String> producer(String servers, int lingerMs) {
-        Properties p = new Properties();
-        p.put("bootstrap.servers", servers);
-        p.put("key.serializer", StringSerializer.class.getName());
-        p.put("value.serializer", StringSerializer.class.getName());
-        p.put("acks", "all");
-        p.put("linger.ms", Integer.toString(lingerMs));
-        p.put("batch.size", Integer.toString(256 * 1024));
-        return new KafkaProducer<>(p);
-    }
-
-    private static long endOffset(String servers, String topic) {
-        Properties p = new Properties();
-        p.put("bootstrap.servers", servers);
-        p.put("key.deserializer", ByteArrayDeserializer.class.getName());
-        p.put("value.deserializer", ByteArrayDeserializer.class.getName());
-        TopicPartition tp = new TopicPartition(topic, 0);
-        try (KafkaConsumer<byte[], byte[]> c = new KafkaConsumer<>(p)) {
-            return c.endOffsets(List.of(tp), Duration.ofSeconds(30)).get(tp);
-        }
-    }
-
     /** A small group-sequential plan (Counts.plan: OBF-type, 5 looks) sized to {@code maxUnits} per arm. */
     private static String plan(String id, long maxUnits) {
         return Counts.plan(id).replace("maxUnitsPerArm: 10000", "maxUnitsPerArm: " + maxUnits);
@@ -618,34 +583,11 @@ public final class IngestBenchmark {
         return String.format(Locale.ROOT, "gift-wrap-%03d", i);
     }
 
-    /** Nearest-rank percentile of sorted values. */
-    private static long percentile(long[] sorted, double q) {
-        int rank = (int) Math.ceil(q * sorted.length);
-        return sorted[Math.max(0, Math.min(sorted.length - 1, rank - 1))];
-    }
-
-    private static double seconds(long nanos) {
-        return nanos / 1e9;
-    }
-
-    private static double millis(long nanos) {
-        return nanos / 1e6;
-    }
-
     private static String loadAverage() {
         try {
             return Files.readString(Path.of("/proc/loadavg")).strip();
         } catch (IOException e) {
             return "unknown";
-        }
-    }
-
-    private static String tail(Path log, int lines) {
-        try {
-            List<String> all = Files.readAllLines(log);
-            return String.join("\n", all.subList(Math.max(0, all.size() - lines), all.size()));
-        } catch (IOException e) {
-            return "(no log: " + e.getMessage() + ")";
         }
     }
 }
