@@ -3,7 +3,7 @@ package dev.stopline.plan;
 import static org.junit.jupiter.api.Assertions.assertFalse;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
-import java.io.ByteArrayOutputStream;
+import dev.stopline.testing.PlanMutations;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
@@ -21,7 +21,6 @@ import org.junit.jupiter.api.TestReporter;
 class PlanFuzzTest {
     private static final long SEED = 20261201L;
     private static final int CASES = 2_500;
-    private static final String NOISE = " :-[]{},&*!|>'\"#\n\tx0.";
     private static final String[] VALUES = {"-1", "0", "1", "1.5", ".nan", ".inf", "1e400", "null", "~", "[]", "{}",
             "\"\"", "yes", "'power:'", "[0.5, 0.2, 1]", "*undefined", "&a x", "!!binary AAAA", "|\n  x"};
 
@@ -39,7 +38,8 @@ class PlanFuzzTest {
         int invalid = 0;
         for (int i = 0; i < CASES; i++) {
             byte[] base = bases.get(rnd.nextInt(bases.size()));
-            byte[] doc = rnd.nextBoolean() ? bytes(base, rnd) : value(new String(base, StandardCharsets.UTF_8), rnd);
+            byte[] doc = rnd.nextBoolean() ? PlanMutations.bytes(base, rnd)
+                    : PlanMutations.yamlValue(new String(base, StandardCharsets.UTF_8), rnd, VALUES);
             try {
                 PlanParser.parse(doc, rnd.nextInt(4) == 0 ? PlanParser.Format.JSON : PlanParser.Format.AUTO);
                 valid++;
@@ -53,40 +53,4 @@ class PlanFuzzTest {
         assertTrue(valid > 0 && invalid > CASES / 2, valid + " valid, " + invalid + " invalid");
     }
 
-    private static byte[] bytes(byte[] in, SplittableRandom rnd) {
-        ByteArrayOutputStream out = new ByteArrayOutputStream();
-        int at = rnd.nextInt(in.length);
-        int len = 1 + rnd.nextInt(Math.min(12, in.length - at));
-        switch (rnd.nextInt(4)) {
-            case 0 -> {
-                byte[] c = in.clone();
-                c[at] = (byte) rnd.nextInt(256);
-                return c;
-            }
-            case 1 -> {
-                out.write(in, 0, at);
-                out.write(in, at + len, in.length - at - len);
-            }
-            case 2 -> {
-                out.write(in, 0, at);
-                for (int k = 0; k < len; k++) {
-                    out.write(NOISE.charAt(rnd.nextInt(NOISE.length())));
-                }
-                out.write(in, at, in.length - at);
-            }
-            default -> out.write(in, 0, at);
-        }
-        return out.toByteArray();
-    }
-
-    /** Replaces the value of one "key: value" line with a hostile YAML value. */
-    private static byte[] value(String doc, SplittableRandom rnd) {
-        String[] lines = doc.split("\n", -1);
-        int i = rnd.nextInt(lines.length);
-        int colon = lines[i].indexOf(": ");
-        if (colon >= 0) {
-            lines[i] = lines[i].substring(0, colon + 2) + VALUES[rnd.nextInt(VALUES.length)];
-        }
-        return String.join("\n", lines).getBytes(StandardCharsets.UTF_8);
-    }
 }

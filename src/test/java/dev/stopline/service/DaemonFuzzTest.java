@@ -20,13 +20,13 @@ import dev.stopline.testing.Counts;
 import dev.stopline.testing.KafkaBrokerExtension;
 import dev.stopline.testing.KafkaTestResource;
 import dev.stopline.testing.Oracle;
+import dev.stopline.testing.PlanMutations;
 import dev.stopline.testing.TestKafka;
 import dev.stopline.wire.SnapshotParser;
 import io.quarkus.test.common.QuarkusTestResource;
 import io.quarkus.test.junit.QuarkusTest;
 import io.restassured.response.Response;
 import jakarta.inject.Inject;
-import java.io.ByteArrayOutputStream;
 import java.nio.charset.StandardCharsets;
 import java.nio.file.Files;
 import java.nio.file.Path;
@@ -63,7 +63,6 @@ class DaemonFuzzTest {
     private static final int PLAN_CASES = 300;
     private static final long SNAPSHOT_SEED = 20270302L;
     private static final int GOOD_SNAPSHOTS = 150;
-    private static final String NOISE = " :-[]{},&*!|>'\"#\n\tx0.";
     private static final String[] VALUES = {"-1", "0", "1", "1.5", ".nan", ".inf", "1e400", "null", "~", "[]", "{}",
             "\"\"", "yes", "'power:'", "[0.5, 0.2, 1]", "*undefined", "&a x", "!!binary AAAA", "|\n  x", "100000000000"};
     private static final String[] SHIPPED = {"checkout-redesign", "recommendations-v2", "gift-wrap-upsell"};
@@ -94,9 +93,9 @@ class DaemonFuzzTest {
             boolean asJson = rnd.nextInt(3) == 0;
             String base = (asJson ? jsonBases : yamlBases).get(rnd.nextInt(yamlBases.size()));
             byte[] doc = switch (rnd.nextInt(3)) {
-                case 0 -> bytes(base.getBytes(StandardCharsets.UTF_8), rnd);
-                case 1 -> asJson ? jsonValue(base, rnd) : yamlValue(base, rnd);
-                default -> bytes(bytes(base.getBytes(StandardCharsets.UTF_8), rnd), rnd);
+                case 0 -> PlanMutations.bytes(base.getBytes(StandardCharsets.UTF_8), rnd);
+                case 1 -> asJson ? jsonValue(base, rnd) : PlanMutations.yamlValue(base, rnd, VALUES);
+                default -> PlanMutations.bytes(PlanMutations.bytes(base.getBytes(StandardCharsets.UTF_8), rnd), rnd);
             };
             if (namesAShippedExperiment(doc)) {
                 skipped++;                    // would replace a plan the other daemon tests rely on
@@ -168,47 +167,6 @@ class DaemonFuzzTest {
             }
         }
         return false;
-    }
-
-    /** One byte-level edit: overwrite, delete or insert noise, or cut the document short. */
-    private static byte[] bytes(byte[] in, SplittableRandom rnd) {
-        if (in.length == 0) {
-            return in;
-        }
-        ByteArrayOutputStream out = new ByteArrayOutputStream();
-        int at = rnd.nextInt(in.length);
-        int len = 1 + rnd.nextInt(Math.min(12, in.length - at));
-        switch (rnd.nextInt(4)) {
-            case 0 -> {
-                byte[] c = in.clone();
-                c[at] = (byte) rnd.nextInt(256);
-                return c;
-            }
-            case 1 -> {
-                out.write(in, 0, at);
-                out.write(in, at + len, in.length - at - len);
-            }
-            case 2 -> {
-                out.write(in, 0, at);
-                for (int k = 0; k < len; k++) {
-                    out.write(NOISE.charAt(rnd.nextInt(NOISE.length())));
-                }
-                out.write(in, at, in.length - at);
-            }
-            default -> out.write(in, 0, at);
-        }
-        return out.toByteArray();
-    }
-
-    /** Replaces the value of one "key: value" line with a hostile YAML value. */
-    private static byte[] yamlValue(String doc, SplittableRandom rnd) {
-        String[] lines = doc.split("\n", -1);
-        int i = rnd.nextInt(lines.length);
-        int colon = lines[i].indexOf(": ");
-        if (colon >= 0) {
-            lines[i] = lines[i].substring(0, colon + 2) + VALUES[rnd.nextInt(VALUES.length)];
-        }
-        return String.join("\n", lines).getBytes(StandardCharsets.UTF_8);
     }
 
     /** Replaces the value of one {@code "key" : value} line of pretty-printed JSON with another JSON value. */
