@@ -87,8 +87,14 @@ public class CountsIngest {
                     quarantine(record, e);
                     return;
                 }
-                LOG.warnf("database unavailable (%s); holding %s-%d@%d and retrying in %d ms", e.getMessage(),
-                        record.topic(), record.partition(), record.offset(), backoff);
+                if (hold) {
+                    LOG.warnf("database unavailable (%s); holding %s-%d@%d and retrying in %d ms", e.getMessage(),
+                            record.topic(), record.partition(), record.offset(), backoff);
+                } else {
+                    LOG.warnf("database write failed for a reason it does not name (%s), attempt %d of %d; "
+                                    + "holding %s-%d@%d and retrying in %d ms", e.getMessage(), unexplained,
+                            ATTEMPTS_BEFORE_QUARANTINE, record.topic(), record.partition(), record.offset(), backoff);
+                }
                 sleep(backoff);
                 backoff = Math.min(MAX_BACKOFF.toMillis(), backoff * 2);
             } catch (RuntimeException e) {
