@@ -10,14 +10,13 @@ import dev.stopline.testing.Counts;
 import dev.stopline.testing.DaemonProcess;
 import dev.stopline.testing.FreePorts;
 import dev.stopline.testing.KafkaBrokerExtension;
+import dev.stopline.testing.TestKafka;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.time.Duration;
 import java.util.List;
-import java.util.Properties;
 import org.apache.kafka.clients.producer.KafkaProducer;
 import org.apache.kafka.clients.producer.ProducerRecord;
-import org.apache.kafka.common.serialization.StringSerializer;
 import org.junit.jupiter.api.Test;
 
 /**
@@ -33,12 +32,7 @@ class DaemonBrokerRestartIT {
     }
 
     private static void send(String servers, int from, int to) throws Exception {
-        Properties p = new Properties();
-        p.put("bootstrap.servers", servers);
-        p.put("key.serializer", StringSerializer.class.getName());
-        p.put("value.serializer", StringSerializer.class.getName());
-        p.put("acks", "all");
-        try (KafkaProducer<String, String> producer = new KafkaProducer<>(p)) {
+        try (KafkaProducer<String, String> producer = TestKafka.producer(servers)) {
             for (int k = from; k <= to; k++) {
                 long n = 500L * k;
                 producer.send(new ProducerRecord<>("stopline.counts", ID,

@@ -29,7 +29,6 @@ import java.time.Duration;
 import java.util.ArrayList;
 import java.util.HashSet;
 import java.util.List;
-import java.util.Properties;
 import java.util.concurrent.ExecutorService;
 import java.util.concurrent.Executors;
 import java.util.concurrent.atomic.AtomicBoolean;
@@ -39,7 +38,6 @@ import java.util.regex.Pattern;
 import org.apache.kafka.clients.consumer.ConsumerRecord;
 import org.apache.kafka.clients.producer.KafkaProducer;
 import org.apache.kafka.clients.producer.ProducerRecord;
-import org.apache.kafka.common.serialization.StringSerializer;
 import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
@@ -158,18 +156,13 @@ class DaemonDatabaseOutageIT {
         String dlq = "dlq-" + run;
         String jdbc = PG.jdbcUrl() + "?user=" + PG.user();
         Path log = dir.resolve("daemon-" + run + ".log");
-        Properties p = new Properties();
-        p.put("bootstrap.servers", broker.bootstrapServers());
-        p.put("key.serializer", StringSerializer.class.getName());
-        p.put("value.serializer", StringSerializer.class.getName());
-        p.put("acks", "all");
         AtomicReference<String> notReady = new AtomicReference<>();
         AtomicBoolean outage = new AtomicBoolean();
         ExecutorService poller = Executors.newSingleThreadExecutor();
         try (DaemonProcess daemon = DaemonProcess.serve(List.of("-Xmx512m", "-Dstopline.topics.counts=" + counts,
                         "-Dstopline.topics.dead-letters=" + dlq), List.of("--bootstrap-servers", broker.bootstrapServers(),
                         "--jdbc-url", jdbc, "--plans-dir", plans.toString(), "--data-dir", dir.resolve(run).toString()), log);
-             KafkaProducer<String, String> producer = new KafkaProducer<>(p)) {
+             KafkaProducer<String, String> producer = TestKafka.producer(broker.bootstrapServers())) {
             for (int k = 1; k <= BEFORE; k++) {
                 send(producer, counts, run, k);
             }

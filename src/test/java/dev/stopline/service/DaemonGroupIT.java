@@ -12,16 +12,15 @@ import dev.stopline.testing.FreePorts;
 import dev.stopline.testing.KafkaBrokerExtension;
 import dev.stopline.testing.Oracle;
 import dev.stopline.testing.PostgresCluster;
+import dev.stopline.testing.TestKafka;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.time.Duration;
 import java.util.ArrayList;
 import java.util.HashSet;
 import java.util.List;
-import java.util.Properties;
 import org.apache.kafka.clients.producer.KafkaProducer;
 import org.apache.kafka.clients.producer.ProducerRecord;
-import org.apache.kafka.common.serialization.StringSerializer;
 import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
@@ -97,12 +96,7 @@ class DaemonGroupIT {
                 daemons.add(DaemonProcess.start(broker.bootstrapServers(), jdbc, plans, dir.resolve("daemon-" + i + ".log"),
                         "--data-dir", dir.toString()));
             }
-            Properties p = new Properties();
-            p.put("bootstrap.servers", broker.bootstrapServers());
-            p.put("key.serializer", StringSerializer.class.getName());
-            p.put("value.serializer", StringSerializer.class.getName());
-            p.put("acks", "all");
-            try (KafkaProducer<String, String> producer = new KafkaProducer<>(p)) {
+            try (KafkaProducer<String, String> producer = TestKafka.producer(broker.bootstrapServers())) {
                 for (int k = 1; k <= SNAPSHOTS; k++) {
                     for (int e = 0; e < EXPERIMENTS; e++) {
                         producer.send(new ProducerRecord<>("stopline.counts", id(e), snapshot(e, k))).get();

@@ -11,6 +11,7 @@ import dev.stopline.testing.DaemonProcess;
 import dev.stopline.testing.FreePorts;
 import dev.stopline.testing.KafkaBrokerExtension;
 import dev.stopline.testing.Oracle;
+import dev.stopline.testing.TestKafka;
 import dev.stopline.wire.Snapshot;
 import java.nio.file.Files;
 import java.nio.file.Path;
@@ -18,10 +19,8 @@ import java.time.Duration;
 import java.util.ArrayList;
 import java.util.HashSet;
 import java.util.List;
-import java.util.Properties;
 import org.apache.kafka.clients.producer.KafkaProducer;
 import org.apache.kafka.clients.producer.ProducerRecord;
-import org.apache.kafka.common.serialization.StringSerializer;
 import org.junit.jupiter.api.AfterAll;
 import org.junit.jupiter.api.BeforeAll;
 import org.junit.jupiter.api.Test;
@@ -82,12 +81,7 @@ class DaemonRestartIT {
         Path log = dir.resolve("daemon.log");
         ObjectMapper json = new ObjectMapper();
 
-        Properties p = new Properties();
-        p.put("bootstrap.servers", broker.bootstrapServers());
-        p.put("key.serializer", StringSerializer.class.getName());
-        p.put("value.serializer", StringSerializer.class.getName());
-        p.put("acks", "all");
-        try (KafkaProducer<String, String> producer = new KafkaProducer<>(p)) {
+        try (KafkaProducer<String, String> producer = TestKafka.producer(broker.bootstrapServers())) {
             DaemonProcess first = DaemonProcess.start(broker.bootstrapServers(), jdbc, dir.resolve("plans"), log, "--data-dir", dir.toString());
             try {
                 for (int k = 0; k < SNAPSHOTS; k++) {

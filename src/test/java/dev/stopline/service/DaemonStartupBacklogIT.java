@@ -9,13 +9,12 @@ import dev.stopline.testing.Counts;
 import dev.stopline.testing.DaemonProcess;
 import dev.stopline.testing.FreePorts;
 import dev.stopline.testing.KafkaBrokerExtension;
+import dev.stopline.testing.TestKafka;
 import java.nio.file.Files;
 import java.nio.file.Path;
 import java.time.Duration;
-import java.util.Properties;
 import org.apache.kafka.clients.producer.KafkaProducer;
 import org.apache.kafka.clients.producer.ProducerRecord;
-import org.apache.kafka.common.serialization.StringSerializer;
 import org.junit.jupiter.api.Test;
 
 /**
@@ -60,12 +59,7 @@ class DaemonStartupBacklogIT {
         Path plans = Files.createDirectories(dir.resolve("plans"));
         try (EmbeddedKafka broker = EmbeddedKafka.builder().port(ports[0]).controllerPort(ports[1])
                 .dataDir(dir.resolve("kafka")).topic("stopline.counts", 1).build().start()) {
-            Properties p = new Properties();
-            p.put("bootstrap.servers", broker.bootstrapServers());
-            p.put("key.serializer", StringSerializer.class.getName());
-            p.put("value.serializer", StringSerializer.class.getName());
-            p.put("acks", "all");
-            try (KafkaProducer<String, String> producer = new KafkaProducer<>(p)) {
+            try (KafkaProducer<String, String> producer = TestKafka.producer(broker.bootstrapServers())) {
                 for (int k = 1; k <= SNAPSHOTS; k++) {
                     for (int i = 0; i < EXPERIMENTS; i++) {
                         long n = 400L * k;

@@ -12,6 +12,7 @@ import dev.stopline.testing.DaemonProcess;
 import dev.stopline.testing.FreePorts;
 import dev.stopline.testing.KafkaBrokerExtension;
 import dev.stopline.testing.Oracle;
+import dev.stopline.testing.TestKafka;
 import dev.stopline.testing.WebhookReceiver;
 import java.nio.file.Files;
 import java.nio.file.Path;
@@ -22,13 +23,11 @@ import java.util.ArrayList;
 import java.util.HashSet;
 import java.util.List;
 import java.util.Map;
-import java.util.Properties;
 import java.util.Set;
 import java.util.TreeMap;
 import java.util.TreeSet;
 import org.apache.kafka.clients.producer.KafkaProducer;
 import org.apache.kafka.clients.producer.ProducerRecord;
-import org.apache.kafka.common.serialization.StringSerializer;
 import org.junit.jupiter.api.Test;
 
 /**
@@ -175,12 +174,7 @@ class DaemonWebhookOutageIT {
     }
 
     private static void send(String servers) throws Exception {
-        Properties p = new Properties();
-        p.put("bootstrap.servers", servers);
-        p.put("key.serializer", StringSerializer.class.getName());
-        p.put("value.serializer", StringSerializer.class.getName());
-        p.put("acks", "all");
-        try (KafkaProducer<String, String> producer = new KafkaProducer<>(p)) {
+        try (KafkaProducer<String, String> producer = TestKafka.producer(servers)) {
             for (int k = 1; k <= SNAPSHOTS; k++) {
                 for (int e = 0; e < EXPERIMENTS; e++) {
                     producer.send(new ProducerRecord<>("stopline.counts", id(e), snapshot(e, k))).get();

@@ -20,6 +20,16 @@ public final class TestKafka {
     private TestKafka() {
     }
 
+    /** A producer of string keys and values to {@code servers}, every send acknowledged by all replicas. */
+    public static KafkaProducer<String, String> producer(String servers) {
+        Properties p = new Properties();
+        p.put("bootstrap.servers", servers);
+        p.put("key.serializer", StringSerializer.class.getName());
+        p.put("value.serializer", StringSerializer.class.getName());
+        p.put("acks", "all");
+        return new KafkaProducer<>(p);
+    }
+
     /** Sends records synchronously (each acknowledged by the broker before the next). */
     public static void send(String topic, String key, byte[]... values) {
         Properties p = new Properties();
