@@ -31,6 +31,7 @@ import java.util.concurrent.BlockingQueue;
 import java.util.concurrent.LinkedBlockingQueue;
 import java.util.concurrent.TimeUnit;
 import java.util.concurrent.atomic.AtomicBoolean;
+import java.util.concurrent.locks.LockSupport;
 import java.util.regex.Matcher;
 import java.util.regex.Pattern;
 import org.apache.kafka.clients.consumer.ConsumerRecord;
@@ -57,7 +58,10 @@ import org.apache.kafka.common.serialization.StringDeserializer;
  *   <li><b>Produce-to-alert latency</b>: one snapshot at a time, each of a fresh experiment with a
  *       60/40 split against a 50/50 allocation (a sample-ratio mismatch at the first snapshot), timed from
  *       just before {@code send} to the CloudEvent's arrival on the alert topic in this JVM (one clock).
- *       p50, p99 and max after a warm-up (target p99 below 50 ms).</li>
+ *       p50, p99 and max after a warm-up (target p99 below 50 ms). Twice: with the daemon and the broker
+ *       idle between alerts, and under a steady feed of ordinary snapshots of other experiments
+ *       ({@code bench.traffic} per second, 2,000 by default; 0 skips this run), which is how a production
+ *       daemon lives.</li>
  *   <li><b>Heap</b>: a second daemon with {@code bench.heapExperiments} plans (10,000) in its plans
  *       directory, each fed {@code bench.heapSnapshots} snapshots; then {@code jcmd GC.run} and the used
  *       heap from {@code jvm_memory_used_bytes{area="heap"}} (target below 512 MiB).</li>
@@ -71,13 +75,15 @@ import org.apache.kafka.common.serialization.StringDeserializer;
 public final class IngestBenchmark {
     private static final String COUNTS = "stopline.counts";
     private static final String ALERTS = "stopline.alerts";
+    /** Experiments whose ordinary snapshots make the steady traffic of the second latency run. */
+    private static final int TRAFFIC_EXPERIMENTS = 200;
 
     private IngestBenchmark() {
     }
 
     /** What the run does; each from a system property of the same name with the prefix {@code bench.}. */
     record Settings(int experiments, int warmupRounds, int rounds, int alerts, int alertWarmup, int heapExperiments,
-                    int heapSnapshots, String xmx, String jfr, List<String> phases, boolean keep) {
+                    int heapSnapshots, String xmx, String jfr, List<String> phases, boolean keep, int traffic) {
         static Settings fromSystemProperties() {
             return new Settings(Integer.getInteger("bench.experiments", 100),
                     Integer.getInteger("bench.warmupRounds", 500),
@@ -89,7 +95,8 @@ public final class IngestBenchmark {
                     System.getProperty("bench.xmx", "1g"),
                     System.getProperty("bench.jfr", ""),
                     List.of(System.getProperty("bench.phases", "throughput,latency,heap").split(",")),
-                    Boolean.getBoolean("bench.keep"));
+                    Boolean.getBoolean("bench.keep"),
+                    Integer.getInteger("bench.traffic", 2000));
         }
     }
 
@@ -136,8 +143,11 @@ public final class IngestBenchmark {
         for (int i = 0; i < s.experiments(); i++) {
             Files.writeString(plans.resolve(tpId(i) + ".yaml"), plan(tpId(i), 100L * perExperiment));
         }
-        for (int i = 0; i < s.alertWarmup() + s.alerts(); i++) {
+        for (int i = 0; i < 2 * (s.alertWarmup() + s.alerts()); i++) { // an idle run and one under traffic
             Files.writeString(plans.resolve(latId(i) + ".yaml"), plan(latId(i), 1_000_000));
+        }
+        for (int i = 0; i < TRAFFIC_EXPERIMENTS; i++) {
+            Files.writeString(plans.resolve(trafficId(i) + ".yaml"), plan(trafficId(i), 1_000_000_000L));
         }
         Backlog backlog = null;
         if (s.phases().contains("throughput")) {
@@ -155,12 +165,16 @@ public final class IngestBenchmark {
         try (DaemonProcess daemon = DaemonProcess.serve(jvm, List.of("--bootstrap-servers", servers, "--jdbc-url", jdbc,
                 "--plans-dir", plans.toString()), log)) {
             report.add(String.format(Locale.ROOT, "daemon 1: %d + %d plans, ready in %.1f s (-Xmx%s)",
-                    s.experiments(), s.alertWarmup() + s.alerts(), seconds(System.nanoTime() - t0), s.xmx()));
+                    s.experiments(), 2 * (s.alertWarmup() + s.alerts()) + TRAFFIC_EXPERIMENTS,
+                    seconds(System.nanoTime() - t0), s.xmx()));
             if (backlog != null) {
                 throughput(s, servers, daemon, backlog, report);
             }
             if (s.phases().contains("latency")) {
-                latency(s, servers, daemon, report);
+                latency(s, servers, daemon, 0, 0, report);
+                if (s.traffic() > 0) {
+                    latency(s, servers, daemon, s.alertWarmup() + s.alerts(), s.traffic(), report);
+                }
             }
             daemon.terminate(Duration.ofSeconds(30));
         } catch (RuntimeException e) {
@@ -308,19 +322,30 @@ public final class IngestBenchmark {
         return bytes;
     }
 
-    private static void latency(Settings s, String servers, DaemonProcess daemon, List<String> report)
-            throws Exception {
+    /**
+     * Produce-to-alert latency of {@code bench.alerts} alerts sent one at a time, experiments
+     * {@code latId(first)} onwards. With {@code traffic} > 0 a second producer feeds ordinary snapshots
+     * (no look due, no alert) of {@value #TRAFFIC_EXPERIMENTS} other experiments at that many per second
+     * meanwhile, as a production daemon always has; with 0 the daemon, the broker and the machine are idle
+     * between alerts.
+     */
+    private static void latency(Settings s, String servers, DaemonProcess daemon, int first, int traffic,
+                                List<String> report) throws Exception {
         BlockingQueue<Arrival> arrivals = new LinkedBlockingQueue<>();
         AtomicBoolean stop = new AtomicBoolean();
         Thread reader = alertReader(servers, arrivals, stop);
         reader.start();
+        Thread feeder = traffic > 0 ? trafficFeeder(servers, traffic, stop) : null;
         long[] latencies = new long[s.alerts()];
         long[] sentAt = new long[s.alerts()];
         long[] arrivedAt = new long[s.alerts()];
         try (KafkaProducer<String, String> producer = producer(servers, 0)) {
-            Thread.sleep(1000); // the reader is positioned at the end of the alert topic
+            if (feeder != null) {
+                feeder.start();
+            }
+            Thread.sleep(feeder == null ? 1000 : 5000); // the reader is at the end of the alert topic; traffic flows
             for (int i = 0; i < s.alertWarmup() + s.alerts(); i++) {
-                String id = latId(i);
+                String id = latId(first + i);
                 String snapshot = Counts.proportion(id, 1, "orders", 6000, 600, 4000, 400);
                 long sentMillis = System.currentTimeMillis();
                 long sent = System.nanoTime();
@@ -335,15 +360,54 @@ public final class IngestBenchmark {
         } finally {
             stop.set(true);
             reader.join(5000);
+            if (feeder != null) {
+                feeder.join(5000);
+            }
         }
-        report.add(breakdown(s, daemon, sentAt, arrivedAt));
+        String mode = traffic > 0 ? String.format(Locale.ROOT, "under steady traffic of %d snapshots/s", traffic)
+                : "idle between alerts";
+        report.add(String.format(Locale.ROOT, "produce-to-alert latency, %s:", mode));
+        report.add(breakdown(s, first, daemon, sentAt, arrivedAt));
         Arrays.sort(latencies);
         double p50 = millis(percentile(latencies, 0.50));
         double p99 = millis(percentile(latencies, 0.99));
-        report.add(String.format(Locale.ROOT, "produce-to-alert latency over %d sample-ratio alerts (after %d warm-up),"
-                        + " one at a time: p50 %.1f ms, p99 %.1f ms, max %.1f ms (target p99 < 50 ms: %s)",
+        report.add(String.format(Locale.ROOT, "  %d sample-ratio alerts (after %d warm-up), one at a time: p50 %.1f ms,"
+                        + " p99 %.1f ms, max %.1f ms (target p99 < 50 ms: %s)",
                 s.alerts(), s.alertWarmup(), p50, p99, millis(latencies[latencies.length - 1]),
                 p99 < 50 ? "met" : "missed"));
+    }
+
+    /**
+     * Sends ordinary snapshots of the traffic experiments at {@code perSecond}, in slices every 10 ms,
+     * until {@code stop}; each experiment's counts grow by about 100 units per arm and snapshot at a 50/50
+     * split, far from any look.
+     */
+    private static Thread trafficFeeder(String servers, int perSecond, AtomicBoolean stop) {
+        Thread t = new Thread(() -> {
+            SplittableRandom random = new SplittableRandom(20270302L);
+            long[][] cumulative = new long[TRAFFIC_EXPERIMENTS][4];
+            int[] sequence = new int[TRAFFIC_EXPERIMENTS];
+            long sent = 0;
+            long t0 = System.nanoTime();
+            try (KafkaProducer<String, String> producer = producer(servers, 0)) {
+                while (!stop.get()) {
+                    long due = (System.nanoTime() - t0) * perSecond / 1_000_000_000L;
+                    for (; sent < due; sent++) {
+                        int i = (int) (sent % TRAFFIC_EXPERIMENTS);
+                        long[] c = cumulative[i];
+                        c[0] += 95 + random.nextInt(11);
+                        c[1] += random.nextInt(21);
+                        c[2] += 95 + random.nextInt(11);
+                        c[3] += random.nextInt(21);
+                        producer.send(new ProducerRecord<>(COUNTS, trafficId(i),
+                                Counts.proportion(trafficId(i), ++sequence[i], "orders", c[0], c[1], c[2], c[3])));
+                    }
+                    LockSupport.parkNanos(10_000_000L);
+                }
+            }
+        }, "bench-traffic");
+        t.setDaemon(true);
+        return t;
     }
 
     /**
@@ -352,14 +416,14 @@ public final class IngestBenchmark {
      * Kafka channel delivered ({@code deliveredAt}: dispatcher wake-up, log channel, send acknowledged),
      * delivered -> arrival in this JVM (the reader's fetch).
      */
-    private static String breakdown(Settings s, DaemonProcess daemon, long[] sentAt, long[] arrivedAt) {
+    private static String breakdown(Settings s, int first, DaemonProcess daemon, long[] sentAt, long[] arrivedAt) {
         ObjectMapper json = new ObjectMapper();
         long[] ingest = new long[sentAt.length];
         long[] dispatch = new long[sentAt.length];
         long[] fetch = new long[sentAt.length];
         try {
             for (int j = 0; j < sentAt.length; j++) {
-                JsonNode a = json.readTree(daemon.getBody("/api/alerts?experiment=" + latId(j + s.alertWarmup()))).get(0);
+                JsonNode a = json.readTree(daemon.getBody("/api/alerts?experiment=" + latId(first + j + s.alertWarmup()))).get(0);
                 long created = Instant.parse(a.path("createdAt").asText()).toEpochMilli();
                 long delivered = created;
                 for (JsonNode d : a.path("deliveries")) {
@@ -577,6 +641,10 @@ public final class IngestBenchmark {
 
     private static String tpId(int i) {
         return String.format(Locale.ROOT, "checkout-%03d", i);
+    }
+
+    private static String trafficId(int i) {
+        return String.format(Locale.ROOT, "wishlist-%03d", i);
     }
 
     private static String latId(int i) {
