@@ -252,6 +252,9 @@ public final class ExperimentMonitor {
 
     private PrimaryOutcome evaluatePrimary(MonitorState s, Snapshot snap, ArmCounts c, ArmCounts t, double fraction) {
         Primary p = plan.primary();
+        if (p.method() == Method.GROUP_SEQUENTIAL && !lookDue(s, fraction)) {
+            return new PrimaryOutcome(null, s);      // most snapshots: no estimate needed
+        }
         Comparison cmp = compare(p.type(), p.metric(), c, t);
         if (cmp == null || p.method() != Method.GROUP_SEQUENTIAL && !enoughForContinuous(c, t)) {
             return new PrimaryOutcome(null, s);
@@ -279,8 +282,13 @@ public final class ExperimentMonitor {
         return 1.0;
     }
 
+    /** Whether {@code fraction} reaches the next planned look of a group-sequential plan. */
+    private boolean lookDue(MonitorState s, double fraction) {
+        return fraction > 0 && fraction >= nextTarget(s);
+    }
+
     private PrimaryOutcome groupSequential(MonitorState s, Snapshot snap, Comparison cmp, double fraction) {
-        if (!(fraction > 0) || fraction < nextTarget(s)) {
+        if (!lookDue(s, fraction)) {
             return new PrimaryOutcome(null, s);
         }
         Primary p = plan.primary();
