@@ -114,10 +114,65 @@ public class AlertDispatcher {
         webhookLanes.values().forEach(ExecutorService::shutdownNow);
     }
 
-    /** Asks for a delivery round now (a new alert was committed). */
+    /** Asks for a delivery round now. */
     public void wake() {
         if (executor != null && !executor.isShutdown()) {
             executor.execute(this::drainSafely);
+        }
+    }
+
+    /**
+     * New alerts were committed (their outbox rows are durable): each one's CloudEvent is sent to the
+     * alert topic at once from the caller's thread (the send only queues the record), and a delivery round
+     * follows for the other channels. Without this the event waited for a hand-off to the dispatcher
+     * thread and a query of the outbox, a few milliseconds at the median and up to 15 at the 99th
+     * percentile in the ingest benchmark. The acknowledgement is recorded on the dispatcher thread; the
+     * row is marked in flight meanwhile so that no round sends it a second time. If the send cannot be
+     * queued the row stays pending and the round sends it.
+     */
+    public void wake(List<Alert> fresh) {
+        if (executor == null || executor.isShutdown()) {
+            return;
+        }
+        if (channels.contains(KAFKA)) {
+            for (Alert alert : fresh) {
+                String key = alert.id() + " " + KAFKA;
+                if (!inFlight.add(key)) {
+                    continue;
+                }
+                CompletableFuture<Void> acked;
+                try {
+                    acked = sendToTopic(alert);
+                } catch (RuntimeException e) {
+                    inFlight.remove(key);
+                    continue;
+                }
+                acked.whenComplete((ok, failed) -> onDispatcherThread(key, () -> {
+                    if (failed == null) {
+                        done(alert.id(), KAFKA);
+                    } else {
+                        retry(alert.id(), KAFKA, "alert topic write failed: " + failed.getMessage());
+                    }
+                }));
+            }
+        }
+        wake();
+    }
+
+    /** Runs a delivery's bookkeeping on the dispatcher thread, then releases its in-flight mark. */
+    private void onDispatcherThread(String key, Runnable bookkeeping) {
+        try {
+            executor.execute(() -> {
+                try {
+                    bookkeeping.run();
+                } catch (RuntimeException e) {
+                    LOG.warnf("could not record an alert delivery (%s), will retry: %s", key, e.getMessage());
+                } finally {
+                    inFlight.remove(key);
+                }
+            });
+        } catch (java.util.concurrent.RejectedExecutionException e) {
+            inFlight.remove(key);          // shutting down: the row stays pending, sent again at the next start
         }
     }
 
@@ -144,6 +199,9 @@ public class AlertDispatcher {
         Map<Store.OutboxItem, CompletableFuture<Void>> sent = new java.util.LinkedHashMap<>();
         for (Store.OutboxItem item : due) {
             if (KAFKA.equals(item.channel())) {
+                if (inFlight.contains(item.alertId() + " " + KAFKA)) {
+                    continue;                // sent by wake(List), its acknowledgement not yet recorded
+                }
                 try {
                     sent.put(item, sendToTopic(item.alert()));
                 } catch (RuntimeException e) {
@@ -230,13 +288,20 @@ public class AlertDispatcher {
     }
 
     private boolean done(Store.OutboxItem item) {
-        store.recordAttempt(item.alertId(), item.channel(), "delivered", null, null, clock.instant());
+        return done(item.alertId(), item.channel());
+    }
+
+    private boolean done(String alertId, String channel) {
+        store.recordAttempt(alertId, channel, "delivered", null, null, clock.instant());
         return true;
     }
 
     private void retry(Store.OutboxItem item, String error) {
-        store.recordAttempt(item.alertId(), item.channel(), "pending", clock.instant().plus(retryLater), error,
-                clock.instant());
+        retry(item.alertId(), item.channel(), error);
+    }
+
+    private void retry(String alertId, String channel, String error) {
+        store.recordAttempt(alertId, channel, "pending", clock.instant().plus(retryLater), error, clock.instant());
     }
 
     /** Sends the alert's CloudEvent to the alert topic; the future completes when the broker acknowledged it. */

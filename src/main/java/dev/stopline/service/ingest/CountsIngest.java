@@ -137,7 +137,7 @@ public class CountsIngest {
             LOG.debugf("alert raised: %s", a.summary());
         }
         if (!batch.fresh.isEmpty()) {
-            dispatcher.wake();
+            dispatcher.wake(batch.fresh);
         }
     }
 
@@ -246,7 +246,7 @@ public class CountsIngest {
                 LOG.debugf("alert raised: %s", a.summary());
             }
             if (!fresh.isEmpty()) {
-                dispatcher.wake();
+                dispatcher.wake(fresh);
             }
         }
     }
@@ -267,9 +267,10 @@ public class CountsIngest {
         if (s.primaryDecision() != null) {
             return s.primaryDecision().wireName();
         }
-        boolean harm = s.guardrails().values().stream().anyMatch(MonitorState.MixtureMemo::alerted);
-        if (harm) {
-            return Decision.GUARDRAIL_HARM.wireName();
+        for (MonitorState.MixtureMemo guardrail : s.guardrails().values()) {   // per snapshot: no stream
+            if (guardrail.alerted()) {
+                return Decision.GUARDRAIL_HARM.wireName();
+            }
         }
         return s.sampleRatioMismatch() ? Decision.SAMPLE_RATIO_MISMATCH.wireName() : "running";
     }
