@@ -1,7 +1,5 @@
 package dev.stopline.wire;
 
-import java.util.Collections;
-import java.util.LinkedHashMap;
 import java.util.Map;
 
 /**
@@ -12,6 +10,6 @@ import java.util.Map;
  */
 public record ArmCounts(long units, Map<String, MetricSums> metrics) {
     public ArmCounts {
-        metrics = Collections.unmodifiableMap(new LinkedHashMap<>(metrics));
+        metrics = ReadOnlyMap.copyOf(metrics);
     }
 }

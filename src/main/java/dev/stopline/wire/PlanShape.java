@@ -14,7 +14,19 @@ import java.util.Set;
  */
 public record PlanShape(Set<String> arms, Set<String> metrics) {
     public PlanShape {
-        arms = Collections.unmodifiableSet(new LinkedHashSet<>(arms));
-        metrics = Collections.unmodifiableSet(new LinkedHashSet<>(metrics));
+        arms = interned(arms);
+        metrics = interned(metrics);
+    }
+
+    /**
+     * The names as canonical strings: the snapshot reader's names are Jackson's interned field names,
+     * so every per-snapshot comparison with the plan ends at the identity check in {@code String.equals}.
+     */
+    private static Set<String> interned(Set<String> names) {
+        Set<String> out = new LinkedHashSet<>();
+        for (String n : names) {
+            out.add(n.intern());
+        }
+        return Collections.unmodifiableSet(out);
     }
 }

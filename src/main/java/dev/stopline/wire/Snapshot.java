@@ -1,8 +1,6 @@
 package dev.stopline.wire;
 
 import java.time.Instant;
-import java.util.Collections;
-import java.util.LinkedHashMap;
 import java.util.Map;
 
 /**
@@ -23,6 +21,6 @@ import java.util.Map;
 public record Snapshot(String experiment, long sequence, Instant observedAt, Map<String, ArmCounts> arms)
         implements Outcome {
     public Snapshot {
-        arms = Collections.unmodifiableMap(new LinkedHashMap<>(arms));
+        arms = ReadOnlyMap.copyOf(arms);
     }
 }

@@ -3,6 +3,7 @@ package dev.stopline.wire;
 import com.fasterxml.jackson.core.JsonFactory;
 import com.fasterxml.jackson.core.JsonParser;
 import com.fasterxml.jackson.core.JsonToken;
+import com.fasterxml.jackson.core.StreamReadFeature;
 import java.io.IOException;
 import java.time.DateTimeException;
 import java.time.Instant;
@@ -24,9 +25,13 @@ import java.util.Map;
 final class SnapshotFastReader {
     private final JsonFactory factory;
 
-    /** @param factory the full path's factory: same limits, duplicate detection and number features */
+    /**
+     * @param factory the full path's factory: same limits and number features. Its duplicate-name
+     *     detection is switched off here (a detector object per JSON object, a few per cent of the
+     *     ingest): this reader finds a repeated name itself and leaves the record to the full path.
+     */
     SnapshotFastReader(JsonFactory factory) {
-        this.factory = factory;
+        this.factory = factory.rebuild().disable(StreamReadFeature.STRICT_DUPLICATE_DETECTION).build();
     }
 
     /** The snapshot, or null when the full path must decide. {@code value} is non-empty and within the limit. */
@@ -49,11 +54,15 @@ final class SnapshotFastReader {
         String experiment = null;
         long sequence = -1;
         Instant observedAt = null;
-        Map<String, ArmCounts> arms = null;
+        LinkedHashMap<String, ArmCounts> arms = null;
         JsonToken t;
         while ((t = p.nextToken()) == JsonToken.FIELD_NAME) {
             String field = p.currentName();
             JsonToken v = p.nextToken();
+            if (field.equals("experiment") && experiment != null || field.equals("sequence") && sequence >= 0
+                    || field.equals("observedAt") && observedAt != null || field.equals("arms") && arms != null) {
+                return null;                                         // a repeated name
+            }
             switch (field) {
                 case "experiment" -> experiment = v == JsonToken.VALUE_STRING && isName(p.getText(), true) ? p.getText() : null;
                 case "sequence" -> sequence = wholeOrMinusOne(p, v, Long.MAX_VALUE);
@@ -71,11 +80,11 @@ final class SnapshotFastReader {
         if (t != JsonToken.END_OBJECT || experiment == null || sequence < 0 || observedAt == null || arms == null) {
             return null;
         }
-        return new Snapshot(experiment, sequence, observedAt, arms);
+        return new Snapshot(experiment, sequence, observedAt, ReadOnlyMap.adopt(arms));
     }
 
-    private static Map<String, ArmCounts> arms(JsonParser p) throws IOException {
-        Map<String, ArmCounts> arms = new LinkedHashMap<>(4);
+    private static LinkedHashMap<String, ArmCounts> arms(JsonParser p) throws IOException {
+        LinkedHashMap<String, ArmCounts> arms = new LinkedHashMap<>(4);
         JsonToken t;
         while ((t = p.nextToken()) == JsonToken.FIELD_NAME) {
             String name = p.currentName();
@@ -86,7 +95,9 @@ final class SnapshotFastReader {
             if (arm == null) {
                 return null;
             }
-            arms.put(name, arm);
+            if (arms.put(name, arm) != null) {
+                return null;                                         // a repeated arm
+            }
         }
         return t == JsonToken.END_OBJECT && !arms.isEmpty() ? arms : null;
     }
@@ -101,7 +112,7 @@ final class SnapshotFastReader {
                 || p.nextToken() != JsonToken.START_OBJECT) {
             return null;
         }
-        Map<String, MetricSums> metrics = new LinkedHashMap<>(4);
+        LinkedHashMap<String, MetricSums> metrics = new LinkedHashMap<>(4);
         JsonToken t;
         while ((t = p.nextToken()) == JsonToken.FIELD_NAME) {
             String name = p.currentName();
@@ -112,9 +123,11 @@ final class SnapshotFastReader {
             if (m == null) {
                 return null;
             }
-            metrics.put(name, m);
+            if (metrics.put(name, m) != null) {
+                return null;                                         // a repeated metric
+            }
         }
-        return t == JsonToken.END_OBJECT && p.nextToken() == JsonToken.END_OBJECT ? new ArmCounts(units, metrics) : null;
+        return t == JsonToken.END_OBJECT && p.nextToken() == JsonToken.END_OBJECT ? new ArmCounts(units, ReadOnlyMap.adopt(metrics)) : null;
     }
 
     private static MetricSums metric(JsonParser p, long units) throws IOException {
@@ -126,6 +139,16 @@ final class SnapshotFastReader {
         JsonToken t;
         while ((t = p.nextToken()) == JsonToken.FIELD_NAME) {
             String field = p.currentName();
+            if (!Double.isNaN(switch (field) {
+                case "sum" -> sum;
+                case "sumOfSquares" -> sumSq;
+                case "denominatorSum" -> den;
+                case "denominatorSumOfSquares" -> denSq;
+                case "sumOfProducts" -> prod;
+                default -> Double.NaN;
+            })) {
+                return null;                                         // a repeated field
+            }
             double v = amount(p, p.nextToken(), field.endsWith("Sum") || field.equals("sum")
                     ? SnapshotParser.ABSURD : SnapshotParser.ABSURD_SQUARED);
             switch (field) {

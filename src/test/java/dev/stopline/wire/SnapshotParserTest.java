@@ -56,6 +56,14 @@ class SnapshotParserTest {
                 bad("", Reason.MALFORMED_JSON, "empty payload"),
                 bad("   \n", Reason.MALFORMED_JSON, "no JSON value"),
                 bad(VALID.replace("\"sequence\":42", "\"sequence\":42,\"sequence\":43"), Reason.MALFORMED_JSON, "Duplicate field 'sequence'"),
+                // each kind of repeated name, also caught by the one-pass reader (which hands them to the full path)
+                bad(VALID.replace("\"experiment\":", "\"experiment\":\"x\",\"experiment\":"), Reason.MALFORMED_JSON,
+                        "Duplicate field 'experiment'"),
+                bad(VALID.replace("\"arms\":{", "\"arms\":{\"control\":{\"units\":1,\"metrics\":{\"orders\":{\"sum\":0,"
+                        + "\"sumOfSquares\":0}}},"), Reason.MALFORMED_JSON, "Duplicate field 'control'"),
+                bad(VALID.replaceFirst("\"metrics\":\\{", "\"metrics\":{\"orders\":{\"sum\":0,\"sumOfSquares\":0},"),
+                        Reason.MALFORMED_JSON, "Duplicate field 'orders'"),
+                bad(VALID.replace("\"sum\":812,", "\"sum\":812,\"sum\":812,"), Reason.MALFORMED_JSON, "Duplicate field 'sum'"),
                 bad(VALID + "{}", Reason.MALFORMED_JSON, "Trailing token"),
                 bad("{'experiment':'checkout-redesign'}", Reason.MALFORMED_JSON, "Unexpected character"),
                 // schema
