@@ -232,12 +232,14 @@ public final class ExperimentMonitor {
         Map<String, Long> units = new LinkedHashMap<>();
         long[] observed = new long[plan.allocation().size()];
         int i = 0;
+        long total = 0;
         for (String arm : plan.allocation().keySet()) {
             long n = snapshot.arms().get(arm).units();
             units.put(arm, n);
             observed[i++] = n;
+            total += n;
         }
-        if (units.values().stream().mapToLong(Long::longValue).sum() == 0) {
+        if (total == 0) {
             return new SampleRatioRecord(snapshot.sequence(), units, 0, 1, sampleRatio.threshold(), false);
         }
         SampleRatioCheck.Result r = sampleRatio.test(observed);

@@ -237,9 +237,11 @@ public class Store {
                 }
             }
         }
-        boolean primaryLook = e.looks().stream().anyMatch(l -> LookRecord.PRIMARY.equals(l.role()));
-        if (primaryLook) {
-            lockPlan(c, s.experiment(), s.cumulativeAlphaSpent(), now);
+        for (LookRecord l : e.looks()) {                    // per snapshot: a loop, not a stream
+            if (LookRecord.PRIMARY.equals(l.role())) {
+                lockPlan(c, s.experiment(), s.cumulativeAlphaSpent(), now);
+                break;
+            }
         }
         return fresh;
     }
