@@ -10,6 +10,7 @@ import dev.stopline.service.plans.PlanRegistry;
 import dev.stopline.service.store.Store;
 import dev.stopline.service.support.StoplineMetrics;
 import dev.stopline.wire.SnapshotParser;
+import jakarta.annotation.PreDestroy;
 import jakarta.enterprise.context.ApplicationScoped;
 import jakarta.inject.Inject;
 import java.time.Clock;
@@ -17,7 +18,15 @@ import java.time.Duration;
 import java.time.Instant;
 import java.util.List;
 import java.util.Map;
+import java.util.ArrayList;
+import java.util.Optional;
+import java.util.concurrent.CompletableFuture;
+import java.util.concurrent.CompletionException;
 import java.util.concurrent.ConcurrentHashMap;
+import java.util.concurrent.ExecutorService;
+import java.util.concurrent.Executors;
+import java.util.concurrent.atomic.AtomicInteger;
+import java.util.concurrent.atomic.AtomicLong;
 import org.apache.kafka.clients.consumer.ConsumerRecord;
 import org.eclipse.microprofile.config.inject.ConfigProperty;
 import org.jboss.logging.Logger;
@@ -39,6 +48,10 @@ import org.jboss.logging.Logger;
 public class CountsIngest {
     private static final Logger LOG = Logger.getLogger(CountsIngest.class);
     private static final Duration MAX_BACKOFF = Duration.ofSeconds(5);
+    /** Upper bound of {@code stopline.ingest.lanes}. */
+    static final int MAX_LANES = 16;
+    /** Polls smaller than this are evaluated on one thread: handing out lanes would cost more than it saves. */
+    static final int PARALLEL_FROM = 256;
     /** Attempts of a record whose write fails for no reason the database gives, while it answers. */
     static final int ATTEMPTS_BEFORE_QUARANTINE = 3;
 
@@ -50,11 +63,16 @@ public class CountsIngest {
     private final Clock clock;
     private final Monitoring monitoring;
     private final Map<String, Store.StoredState> cache = new ConcurrentHashMap<>();
+    /** Threads that evaluate a poll's records besides the consumer's worker, one lane each; none when 1 lane. */
+    private final ExecutorService lanePool;
+    private final int lanes;
+    private final AtomicLong parallelPolls = new AtomicLong();
 
     @Inject
     public CountsIngest(Store store, PlanRegistry plans, DeadLetterPublisher deadLetters, AlertDispatcher dispatcher,
                         StoplineMetrics metrics, Clock clock,
-                        @ConfigProperty(name = "stopline.counts.max-bytes", defaultValue = "1048576") int maxBytes) {
+                        @ConfigProperty(name = "stopline.counts.max-bytes", defaultValue = "1048576") int maxBytes,
+                        @ConfigProperty(name = "stopline.ingest.lanes") Optional<Integer> lanes) {
         this.store = store;
         this.plans = plans;
         this.deadLetters = deadLetters;
@@ -62,6 +80,20 @@ public class CountsIngest {
         this.metrics = metrics;
         this.clock = clock;
         this.monitoring = new Monitoring(SnapshotParser.withDefaults().withMaxBytes(maxBytes), plans::monitor);
+        this.lanes = Math.max(1, Math.min(MAX_LANES, lanes.orElse(Runtime.getRuntime().availableProcessors())));
+        AtomicInteger n = new AtomicInteger();
+        this.lanePool = this.lanes == 1 ? null : Executors.newFixedThreadPool(this.lanes - 1, r -> {
+            Thread t = new Thread(r, "stopline-ingest-lane-" + n.incrementAndGet());
+            t.setDaemon(true);
+            return t;
+        });
+    }
+
+    @PreDestroy
+    void stopLanes() {
+        if (lanePool != null) {
+            lanePool.shutdownNow();
+        }
     }
 
     /**
@@ -149,7 +181,58 @@ public class CountsIngest {
         List<Alert> fresh = List.of();
     }
 
+    /**
+     * Evaluates a poll's records. Records are spread over {@link #lanes} lanes by their key (the
+     * experiment id), so each experiment's records stay in one lane and in order, and lanes never touch
+     * the same experiment's state; the consumer's worker thread takes the first lane itself. The monitors
+     * and the statistics core are immutable and pure, the state cache is concurrent. A record without a
+     * key could carry any experiment, so a poll holding one is evaluated on one thread.
+     */
     private Batch evaluate(List<ConsumerRecord<String, byte[]>> records) {
+        if (lanePool == null || records.size() < PARALLEL_FROM || records.stream().anyMatch(r -> r.key() == null)) {
+            return evaluateLane(records);
+        }
+        List<List<ConsumerRecord<String, byte[]>>> split = new ArrayList<>(lanes);
+        for (int i = 0; i < lanes; i++) {
+            split.add(new ArrayList<>(records.size() / lanes + 16));
+        }
+        for (ConsumerRecord<String, byte[]> r : records) {
+            split.get(Math.floorMod(r.key().hashCode(), lanes)).add(r);
+        }
+        parallelPolls.incrementAndGet();
+        List<CompletableFuture<Batch>> others = new ArrayList<>(lanes - 1);
+        for (int i = 1; i < lanes; i++) {
+            List<ConsumerRecord<String, byte[]>> lane = split.get(i);
+            others.add(CompletableFuture.supplyAsync(() -> evaluateLane(lane), lanePool));
+        }
+        Batch merged = null;
+        RuntimeException failed = null;
+        try {
+            merged = evaluateLane(split.get(0));
+        } catch (RuntimeException e) {
+            failed = e;
+        }
+        for (CompletableFuture<Batch> f : others) {      // every lane has finished before anything else happens
+            try {
+                Batch b = f.join();
+                if (merged != null) {
+                    merged.states.putAll(b.states);
+                    merged.changes.addAll(b.changes);
+                    merged.afterCommit.addAll(b.afterCommit);
+                }
+            } catch (CompletionException e) {
+                if (failed == null) {
+                    failed = e.getCause() instanceof RuntimeException re ? re : e;
+                }
+            }
+        }
+        if (failed != null) {
+            throw failed;
+        }
+        return merged;
+    }
+
+    private Batch evaluateLane(List<ConsumerRecord<String, byte[]>> records) {
         Batch b = new Batch();
         Instant now = clock.instant();
         for (ConsumerRecord<String, byte[]> record : records) {
@@ -273,6 +356,11 @@ public class CountsIngest {
             }
         }
         return s.sampleRatioMismatch() ? Decision.SAMPLE_RATIO_MISMATCH.wireName() : "running";
+    }
+
+    /** How many polls were evaluated on more than one lane so far (for tests). */
+    long parallelPolls() {
+        return parallelPolls.get();
     }
 
     /** Forgets cached states (after a partition is revoked, another instance may advance them). */
