@@ -65,6 +65,7 @@ public class AlertDispatcher {
     private final CloudEvents events;
     private final WebhookDelivery webhooks;
     private final List<String> channels;
+    private final List<URI> webhookUrls;
     private final Duration retryLater;
     private ScheduledExecutorService executor;
     private final Map<URI, ExecutorService> webhookLanes = new ConcurrentHashMap<>();
@@ -91,6 +92,7 @@ public class AlertDispatcher {
         }
         this.webhooks = b.build();
         this.channels = List.copyOf(ch);
+        this.webhookUrls = List.copyOf(webhookUrls.orElse(List.of()));
     }
 
     /** The channels every new alert is queued for. */
@@ -194,6 +196,7 @@ public class AlertDispatcher {
     public synchronized int drain() {
         int delivered = 0;
         Instant now = clock.instant();
+        syncDisabledWebhooks();
         List<Store.OutboxItem> due = new ArrayList<>(store.dueDeliveries(now, 100, false));
         due.addAll(store.dueDeliveries(now, 100, true)); // asked apart: a dead endpoint's backlog holds nothing up
         Map<Store.OutboxItem, CompletableFuture<Void>> sent = new java.util.LinkedHashMap<>();
@@ -228,6 +231,56 @@ public class AlertDispatcher {
             }
         }
         return delivered;
+    }
+
+    /**
+     * The database says which webhook endpoints are switched off (a 410 Gone, here or at another instance,
+     * before or after a restart); an operator switches one on again with {@link #enableWebhook}. Asked at
+     * every delivery round, so every instance follows within a round.
+     */
+    private void syncDisabledWebhooks() {
+        if (webhookUrls.isEmpty()) {
+            return;
+        }
+        Map<String, Store.DisabledWebhook> off = store.disabledWebhooks();
+        for (URI url : webhookUrls) {
+            if (off.containsKey(url.toString())) {
+                webhooks.disable(url);
+            } else {
+                webhooks.enable(url);
+            }
+        }
+    }
+
+    /** One configured webhook endpoint: on, or off since a 410 (when and why). */
+    public record WebhookStatus(String url, boolean enabled, Instant disabledAt, String reason) {
+    }
+
+    /** The configured webhook endpoints, in configuration order. */
+    public List<WebhookStatus> webhookEndpoints() {
+        Map<String, Store.DisabledWebhook> off = store.disabledWebhooks();
+        List<WebhookStatus> out = new ArrayList<>();
+        for (URI url : webhookUrls) {
+            Store.DisabledWebhook d = off.get(url.toString());
+            out.add(d == null ? new WebhookStatus(url.toString(), true, null, null)
+                    : new WebhookStatus(url.toString(), false, d.disabledAt(), d.reason()));
+        }
+        return out;
+    }
+
+    /**
+     * Switches a configured endpoint on again (it answered 410 before); alerts raised from now on are sent
+     * to it. Deliveries abandoned meanwhile stay abandoned. Empty if {@code url} is not configured.
+     */
+    public Optional<WebhookStatus> enableWebhook(String url) {
+        for (URI configured : webhookUrls) {
+            if (configured.toString().equals(url)) {
+                store.enableWebhook(url);
+                webhooks.enable(configured);
+                return Optional.of(new WebhookStatus(url, true, null, null));
+            }
+        }
+        return Optional.empty();
     }
 
     private void handToLane(Store.OutboxItem item) {
@@ -271,6 +324,10 @@ public class AlertDispatcher {
                     case DELIVERED, SKIPPED_ALREADY_DELIVERED:
                         return done(item);
                     case ENDPOINT_GONE, SKIPPED_DISABLED, REJECTED:
+                        if (r.state() == EndpointResult.State.ENDPOINT_GONE) {
+                            store.disableWebhook(url.toString(), "answered 410 Gone to alert " + alert.id(),
+                                    clock.instant());
+                        }
                         store.recordAttempt(item.alertId(), item.channel(), "abandoned", null,
                                 "endpoint answered " + r.state() + "; not retried", clock.instant());
                         return false;

@@ -15,6 +15,7 @@ import java.sql.Timestamp;
 import java.time.Instant;
 import java.util.ArrayList;
 import java.util.List;
+import java.util.Map;
 import java.util.Optional;
 import javax.sql.DataSource;
 
@@ -425,6 +426,59 @@ public class Store {
                 ps.setString(3, alertId);
                 return ps.executeUpdate() == 1;
             }
+        });
+    }
+
+    // ------------------------------------------------------------------ webhook endpoints
+
+    /** A webhook endpoint switched off (it answered 410 Gone), since when and why. */
+    public record DisabledWebhook(String url, Instant disabledAt, String reason) {
+    }
+
+    /** Records that {@code url} is switched off; a second call keeps the first time and reason. */
+    public void disableWebhook(String url, String reason, Instant now) {
+        inTransaction(c -> {
+            try (PreparedStatement exists = c.prepareStatement("SELECT 1 FROM webhook_disabled WHERE url = ?")) {
+                exists.setString(1, url);
+                try (ResultSet rs = exists.executeQuery()) {
+                    if (rs.next()) {
+                        return null;
+                    }
+                }
+            }
+            try (PreparedStatement ps = c.prepareStatement(
+                    "INSERT INTO webhook_disabled (url, disabled_at, reason) VALUES (?, ?, ?)")) {
+                ps.setString(1, url);
+                ps.setTimestamp(2, Timestamp.from(now));
+                ps.setString(3, reason);
+                ps.executeUpdate();
+            }
+            return null;
+        });
+    }
+
+    /** Switches {@code url} on again; false if it was not switched off. */
+    public boolean enableWebhook(String url) {
+        return inTransaction(c -> {
+            try (PreparedStatement ps = c.prepareStatement("DELETE FROM webhook_disabled WHERE url = ?")) {
+                ps.setString(1, url);
+                return ps.executeUpdate() == 1;
+            }
+        });
+    }
+
+    /** Every switched-off endpoint, by URL. */
+    public Map<String, DisabledWebhook> disabledWebhooks() {
+        return inTransaction(c -> {
+            Map<String, DisabledWebhook> out = new java.util.TreeMap<>();
+            try (PreparedStatement ps = c.prepareStatement("SELECT url, disabled_at, reason FROM webhook_disabled");
+                 ResultSet rs = ps.executeQuery()) {
+                while (rs.next()) {
+                    out.put(rs.getString(1), new DisabledWebhook(rs.getString(1), rs.getTimestamp(2).toInstant(),
+                            rs.getString(3)));
+                }
+            }
+            return out;
         });
     }
 

@@ -92,6 +92,20 @@ abstract class StoreContractTest {
     }
 
     @Test
+    void webhookSwitch_keepsTheFirstReason_andEnablingRemovesIt() {
+        String url = "https://hooks.example.test/contract-" + System.nanoTime();
+        Instant first = Instant.parse("2027-03-04T10:00:00Z");
+        assertTrue(!store.disabledWebhooks().containsKey(url));
+        store.disableWebhook(url, "answered 410 Gone to alert a", first);
+        store.disableWebhook(url, "answered 410 Gone to alert b", first.plusSeconds(60));
+        Store.DisabledWebhook d = store.disabledWebhooks().get(url);
+        assertEquals(new Store.DisabledWebhook(url, first, "answered 410 Gone to alert a"), d);
+        assertTrue(store.enableWebhook(url));
+        assertTrue(!store.enableWebhook(url), "already on");
+        assertTrue(!store.disabledWebhooks().containsKey(url));
+    }
+
+    @Test
     void savePlan_thenReplaceBeforeTheFirstLook_bumpsTheVersionAndAppendsTwoAuditRows() {
         String id = "store-plan";
         int v1 = savePlan(id, "registered", T0);
