@@ -32,6 +32,9 @@ import org.eclipse.microprofile.openapi.annotations.Operation;
 @Path("/api")
 @Produces(MediaType.APPLICATION_JSON)
 public class ExperimentsResource {
+    /** The most snapshot sequences one page of looks may cover. */
+    static final int MAX_LOOKS_PAGE = 10_000;
+
     @Inject
     Store store;
     @Inject
@@ -60,7 +63,7 @@ public class ExperimentsResource {
         return store.plan(id).<Response>map(p -> {
             ExperimentMonitor m = plans.monitor(id);
             Store.StoredState st = store.state(id).orElse(null);
-            List<LookRecord> looks = store.looks(id);
+            List<LookRecord> looks = store.latestLooks(id);
             ExperimentView.Summary s = ExperimentView.summary(p, m, st, looks, openAlerts(id));
             return Response.ok(ExperimentView.detail(s, p, m, st, looks)).build();
         }).orElseGet(() -> notFound(id));
@@ -68,12 +71,21 @@ public class ExperimentsResource {
 
     @GET
     @Path("/experiments/{id}/looks")
-    @Operation(summary = "Every stored look of an experiment, oldest first (the alpha ledger of the primary)")
-    public Response looks(@PathParam("id") String id) {
+    @Operation(summary = "Every stored look of an experiment, oldest first (the alpha ledger of the primary)",
+            description = "With limit: the looks of at most that many snapshot sequences from 'from' on; page on "
+                    + "with from = the last sequence + 1 (an SPRT or a guardrail stores a look per snapshot).")
+    public Response looks(@PathParam("id") String id, @QueryParam("from") Long from, @QueryParam("limit") Integer limit) {
         if (store.plan(id).isEmpty()) {
             return notFound(id);
         }
-        return Response.ok(store.looks(id)).build();
+        if (from == null && limit == null) {
+            return Response.ok(store.looks(id)).build();
+        }
+        if (limit != null && (limit < 1 || limit > MAX_LOOKS_PAGE)) {
+            return ApiError.response(ApiError.UNPROCESSABLE, "limit must be between 1 and " + MAX_LOOKS_PAGE
+                    + ", got " + limit, null);
+        }
+        return Response.ok(store.looks(id, from == null ? 0 : from, limit == null ? MAX_LOOKS_PAGE : limit)).build();
     }
 
     @GET
@@ -153,7 +165,7 @@ public class ExperimentsResource {
 
     private ExperimentView.Summary summary(Store.StoredPlan p) {
         String id = p.experimentId();
-        return ExperimentView.summary(p, plans.monitor(id), store.state(id).orElse(null), store.looks(id),
+        return ExperimentView.summary(p, plans.monitor(id), store.state(id).orElse(null), store.latestLooks(id),
                 openAlerts(id));
     }
 

@@ -395,6 +395,35 @@ public class Store {
                 ps -> ps.setString(1, experimentId), rs -> Json.read(rs.getString(1), LookRecord.class));
     }
 
+    /**
+     * Looks of an experiment from sequence {@code fromSequence} on, oldest first, at most {@code limit}
+     * sequences' worth (all looks of the last sequence included), for paging through long histories (an
+     * SPRT or a guardrail stores a look per snapshot).
+     */
+    public List<LookRecord> looks(String experimentId, long fromSequence, int limit) {
+        return query("SELECT record_json FROM look WHERE experiment_id = ? AND sequence >= ? AND sequence IN ("
+                        + "SELECT DISTINCT sequence FROM look WHERE experiment_id = ? AND sequence >= ? "
+                        + "ORDER BY sequence FETCH FIRST " + Math.max(1, limit) + " ROWS ONLY) "
+                        + "ORDER BY sequence, role DESC, metric",
+                ps -> {
+                    ps.setString(1, experimentId);
+                    ps.setLong(2, fromSequence);
+                    ps.setString(3, experimentId);
+                    ps.setLong(4, fromSequence);
+                }, rs -> Json.read(rs.getString(1), LookRecord.class));
+    }
+
+    /**
+     * The latest look of each metric of an experiment (primary first, then guardrails by name): what the
+     * experiment lists and summaries show, without reading a history that grows by a row per snapshot.
+     */
+    public List<LookRecord> latestLooks(String experimentId) {
+        return query("SELECT l.record_json FROM look l WHERE l.experiment_id = ? AND l.sequence = ("
+                        + "SELECT MAX(m.sequence) FROM look m WHERE m.experiment_id = l.experiment_id "
+                        + "AND m.metric = l.metric) ORDER BY l.role DESC, l.metric",
+                ps -> ps.setString(1, experimentId), rs -> Json.read(rs.getString(1), LookRecord.class));
+    }
+
     public record StoredAlert(Alert alert, Instant createdAt, Instant acknowledgedAt, String acknowledgedBy) {
     }
 

@@ -52,7 +52,7 @@ public class StatusResource {
             Map<String, Long> open = new LinkedHashMap<>();
             alerts.stream().filter(a -> a.acknowledgedAt() == null)
                     .forEach(a -> open.merge(a.alert().kind().wireName(), 1L, Long::sum));
-            ExperimentView.Summary s = ExperimentView.summary(p, m, store.state(id).orElse(null), store.looks(id),
+            ExperimentView.Summary s = ExperimentView.summary(p, m, store.state(id).orElse(null), store.latestLooks(id),
                     open.values().stream().mapToLong(Long::longValue).sum());
             rows.add(new StatusPages.Row(s, plan(p, m).description(), open));
         }

@@ -92,6 +92,28 @@ abstract class StoreContractTest {
     }
 
     @Test
+    void latestLooks_andPagesOfLooks_readOnlyTheSequencesAskedFor() {
+        String id = "store-pages";
+        savePlan(id, "registered", T0);
+        for (int k = 1; k <= 3; k++) {         // fractions 0.2, 0.4, 0.6 of 10,000 per arm: a formal look each
+            long n = 2000L * k;
+            Evaluation e = evaluate(id, Counts.proportion(id, k, "orders", n, n / 10, n, n / 10 + k));
+            store.commitEvaluation(e, "running", new Store.Position(0, 100L + k), CHANNELS, T0);
+        }
+        assertEquals(List.of(1L, 2L, 3L), sequences(store.looks(id)));
+        assertEquals(List.of(3L), sequences(store.latestLooks(id)));
+        assertEquals(List.of(2L), sequences(store.looks(id, 2, 1)));
+        assertEquals(List.of(2L, 3L), sequences(store.looks(id, 2, 10)));
+        assertEquals(List.of(1L, 2L, 3L), sequences(store.looks(id, 0, 3)));
+        assertEquals(List.of(), sequences(store.looks(id, 4, 10)));
+        assertEquals(List.of(), store.latestLooks("store-nobody"));
+    }
+
+    private static List<Long> sequences(List<LookRecord> looks) {
+        return looks.stream().map(LookRecord::sequence).toList();
+    }
+
+    @Test
     void webhookSwitch_keepsTheFirstReason_andEnablingRemovesIt() {
         String url = "https://hooks.example.test/contract-" + System.nanoTime();
         Instant first = Instant.parse("2027-03-04T10:00:00Z");
