@@ -36,6 +36,8 @@ public final class StatusPages {
     public static final int REFRESH_SECONDS = 60;
     /** How many looks of an SPRT primary (one per snapshot) the evidence table shows, newest last. */
     static final int SPRT_ROWS = 12;
+    /** The most looks the primary's chart draws (more are thinned evenly). */
+    static final int CHART_LOOKS = 600;
 
     private StatusPages() {
     }
@@ -286,6 +288,11 @@ public final class StatusPages {
                 label = "look " + primary.get(i).look() + ": " + d.wireName();
                 break;
             }
+        }
+        if (primary.size() > CHART_LOOKS) {
+            Thinned t = thin(primary, crossing, CHART_LOOKS);
+            primary = t.looks();
+            crossing = t.crossing();
         }
         List<BoundaryChart.Point> path = new ArrayList<>();
         if (p.method() == Method.MIXTURE_SPRT) {
@@ -604,6 +611,44 @@ public final class StatusPages {
     }
 
     // ------------------------------------------------------------------ pieces
+
+    /** Looks of a chart after thinning, and where the first crossing is among them (-1: none). */
+    record Thinned(List<LookRecord> looks, int crossing) {
+    }
+
+    /**
+     * At most {@code max} of {@code looks}, evenly spread over the history, always with the first and the
+     * last look and the first crossing: an SPRT looks at every snapshot, and a path of tens of thousands of
+     * points is no easier to read than one of a few hundred, only slower to draw.
+     */
+    static Thinned thin(List<LookRecord> looks, int crossing, int max) {
+        if (looks.size() <= max) {
+            return new Thinned(looks, crossing);
+        }
+        java.util.TreeSet<Integer> keep = new java.util.TreeSet<>();
+        int n = looks.size();
+        for (int i = 0; i < max - 2; i++) {
+            keep.add((int) Math.round((double) i * (n - 1) / (max - 3)));
+        }
+        keep.add(n - 1);
+        if (crossing >= 0) {
+            keep.add(crossing);
+        }
+        while (keep.size() > max) {                       // room for the crossing: drop a neighbour of it
+            Integer drop = keep.lower(crossing) != null && keep.lower(crossing) > 0 ? keep.lower(crossing)
+                    : keep.higher(crossing);
+            keep.remove(drop);
+        }
+        List<LookRecord> out = new ArrayList<>(keep.size());
+        int at = -1;
+        for (int i : keep) {
+            if (i == crossing) {
+                at = out.size();
+            }
+            out.add(looks.get(i));
+        }
+        return new Thinned(out, at);
+    }
 
     private static List<LookRecord> primaryLooks(List<LookRecord> looks) {
         return looks.stream().filter(l -> LookRecord.PRIMARY.equals(l.role()))

@@ -2,6 +2,7 @@ package dev.stopline.service.web;
 
 import static org.junit.jupiter.api.Assertions.assertEquals;
 import static org.junit.jupiter.api.Assertions.assertFalse;
+import static org.junit.jupiter.api.Assertions.assertSame;
 import static org.junit.jupiter.api.Assertions.assertTrue;
 
 import dev.stopline.demo.BookshopScenario;
@@ -156,6 +157,23 @@ class StatusPagesTest {
         assertTrue(html.contains("data-series=\"alpha\""), "mixture-SPRT primary: p against alpha");
         assertTrue(html.contains("webhook: <span class=\"st st-bad\">\u2716 abandoned</span>"));
         assertTrue(html.contains("HTTP 500 &lt;b&gt;down&lt;/b&gt;"), "delivery errors are escaped");
+    }
+
+    @Test
+    void longHistories_areThinnedForTheChart_keepingFirstLastAndTheCrossing() {
+        List<LookRecord> primary = FIXTURES.get("recommendations-v2").primary();   // mixture SPRT: a look per snapshot
+        assertTrue(primary.size() >= 30, "looks: " + primary.size());
+        int crossing = primary.size() / 3 + 1;
+        StatusPages.Thinned t = StatusPages.thin(primary, crossing, 10);
+        assertTrue(t.looks().size() <= 10 && t.looks().size() >= 9, "size " + t.looks().size());
+        assertSame(primary.get(0), t.looks().get(0));
+        assertSame(primary.get(primary.size() - 1), t.looks().get(t.looks().size() - 1));
+        assertSame(primary.get(crossing), t.looks().get(t.crossing()), "the crossing is kept and found");
+        for (int i = 1; i < t.looks().size(); i++) {
+            assertTrue(t.looks().get(i).sequence() > t.looks().get(i - 1).sequence(), "in order");
+        }
+        assertEquals(-1, StatusPages.thin(primary, -1, 10).crossing());
+        assertSame(primary, StatusPages.thin(primary, 3, primary.size()).looks(), "short enough: untouched");
     }
 
     @Test
