@@ -201,33 +201,127 @@ public class Store {
     public List<Alert> commitBatch(List<Change> changes, List<String> channels, Instant now) {
         return inTransaction(c -> {
             List<Alert> fresh = new ArrayList<>();
-            java.util.Map<String, Change> lastState = new java.util.LinkedHashMap<>();
-            java.util.Map<String, Position> lastPosition = new java.util.LinkedHashMap<>();
+            Map<String, Change> lastState = new java.util.LinkedHashMap<>();
+            Map<String, Position> lastPosition = new java.util.LinkedHashMap<>();
+            Map<String, Double> lockAt = new java.util.LinkedHashMap<>();
+            List<LookRecord> looks = new ArrayList<>();
             for (Change ch : changes) {
-                if (ch.evaluation() != null) {
-                    fresh.addAll(writeEvaluation(c, ch.evaluation(), channels, now));
+                Evaluation e = ch.evaluation();
+                if (e != null) {
+                    looks.addAll(e.looks());
+                    fresh.addAll(insertAlerts(c, e, channels, now));
+                    if (hasPrimaryLook(e)) {       // the first primary look of the batch locks the plan, if not yet
+                        lockAt.putIfAbsent(ch.experiment(), e.state().cumulativeAlphaSpent());
+                    }
                     lastState.put(ch.experiment(), ch);
                 }
                 lastPosition.put(ch.experiment(), ch.position());
             }
-            for (java.util.Map.Entry<String, Position> p : lastPosition.entrySet()) {
+            // one statement per kind of row, sent as a JDBC batch: a round trip each on PostgreSQL, not one per row
+            if (!looks.isEmpty()) {
+                insertLooks(c, looks, now);
+            }
+            for (Map.Entry<String, Double> l : lockAt.entrySet()) {
+                lockPlan(c, l.getKey(), l.getValue(), now);
+            }
+            List<Change> states = new ArrayList<>();
+            List<Map.Entry<String, Position>> positionsOnly = new ArrayList<>();
+            for (Map.Entry<String, Position> p : lastPosition.entrySet()) {
                 Change ch = lastState.get(p.getKey());
                 if (ch != null) {
-                    upsertState(c, ch.evaluation().state(), ch.status(), p.getValue(), now);
+                    states.add(new Change(ch.experiment(), ch.evaluation(), ch.status(), p.getValue()));
                 } else {
-                    updatePosition(c, p.getKey(), p.getValue(), now);
+                    positionsOnly.add(p);
                 }
             }
+            upsertStates(c, states, now);
+            updatePositions(c, positionsOnly, now);
             return fresh;
         });
     }
 
-    /** Looks, new alerts with their outbox rows, and the plan lock of one evaluation; returns the new alerts. */
-    private static List<Alert> writeEvaluation(Connection c, Evaluation e, List<String> channels, Instant now)
+    private static boolean hasPrimaryLook(Evaluation e) {
+        for (LookRecord l : e.looks()) {
+            if (LookRecord.PRIMARY.equals(l.role())) {
+                return true;
+            }
+        }
+        return false;
+    }
+
+    /** Each experiment's state as left by its last change of the batch: updates in one batch, inserts in another. */
+    private static void upsertStates(Connection c, List<Change> states, Instant now) throws SQLException {
+        if (states.isEmpty()) {
+            return;
+        }
+        String[] json = new String[states.size()];
+        int[] updated;
+        try (PreparedStatement ps = c.prepareStatement("UPDATE monitor_state SET last_sequence = ?, source_partition = ?, "
+                + "source_offset = ?, status = ?, state_json = ?, updated_at = ? WHERE experiment_id = ?")) {
+            for (int i = 0; i < states.size(); i++) {
+                Change ch = states.get(i);
+                json[i] = Json.write(ch.evaluation().state());
+                bindState(ps, ch.evaluation().state(), ch.status(), ch.position(), json[i], now);
+                ps.setString(7, ch.experiment());
+                ps.addBatch();
+            }
+            updated = ps.executeBatch();
+        }
+        List<Integer> missing = new ArrayList<>();
+        for (int i = 0; i < states.size(); i++) {
+            if (updated[i] == 0 || updated[i] == java.sql.Statement.SUCCESS_NO_INFO && !stateExists(c,
+                    states.get(i).experiment())) {
+                missing.add(i);
+            }
+        }
+        if (missing.isEmpty()) {
+            return;
+        }
+        try (PreparedStatement ps = c.prepareStatement("INSERT INTO monitor_state (last_sequence, source_partition, "
+                + "source_offset, status, state_json, updated_at, experiment_id) VALUES (?, ?, ?, ?, ?, ?, ?)")) {
+            for (int i : missing) {
+                Change ch = states.get(i);
+                bindState(ps, ch.evaluation().state(), ch.status(), ch.position(), json[i], now);
+                ps.setString(7, ch.experiment());
+                ps.addBatch();
+            }
+            ps.executeBatch();
+        }
+    }
+
+    private static boolean stateExists(Connection c, String experimentId) throws SQLException {
+        try (PreparedStatement ps = c.prepareStatement("SELECT 1 FROM monitor_state WHERE experiment_id = ?")) {
+            ps.setString(1, experimentId);
+            try (ResultSet rs = ps.executeQuery()) {
+                return rs.next();
+            }
+        }
+    }
+
+    /** The positions of experiments whose records in the batch were all duplicates, in one batch. */
+    private static void updatePositions(Connection c, List<Map.Entry<String, Position>> positions, Instant now)
             throws SQLException {
-        MonitorState s = e.state();
-        if (!e.looks().isEmpty()) {
-            insertLooks(c, e.looks(), now);
+        if (positions.isEmpty()) {
+            return;
+        }
+        try (PreparedStatement ps = c.prepareStatement("UPDATE monitor_state SET source_partition = ?, "
+                + "source_offset = ?, updated_at = ? WHERE experiment_id = ?")) {
+            for (Map.Entry<String, Position> p : positions) {
+                ps.setObject(1, p.getValue().partition(), java.sql.Types.INTEGER);
+                ps.setObject(2, p.getValue().offset(), java.sql.Types.BIGINT);
+                ps.setTimestamp(3, Timestamp.from(now));
+                ps.setString(4, p.getKey());
+                ps.addBatch();
+            }
+            ps.executeBatch();
+        }
+    }
+
+    /** The alerts of one evaluation that are new, each with its outbox rows. */
+    private static List<Alert> insertAlerts(Connection c, Evaluation e, List<String> channels, Instant now)
+            throws SQLException {
+        if (e.alerts().isEmpty()) {
+            return List.of();
         }
         List<Alert> fresh = new ArrayList<>();
         for (Alert a : e.alerts()) {
@@ -238,11 +332,18 @@ public class Store {
                 }
             }
         }
-        for (LookRecord l : e.looks()) {                    // per snapshot: a loop, not a stream
-            if (LookRecord.PRIMARY.equals(l.role())) {
-                lockPlan(c, s.experiment(), s.cumulativeAlphaSpent(), now);
-                break;
-            }
+        return fresh;
+    }
+
+    private static List<Alert> writeEvaluation(Connection c, Evaluation e, List<String> channels, Instant now)
+            throws SQLException {
+        MonitorState s = e.state();
+        if (!e.looks().isEmpty()) {
+            insertLooks(c, e.looks(), now);
+        }
+        List<Alert> fresh = insertAlerts(c, e, channels, now);
+        if (hasPrimaryLook(e)) {
+            lockPlan(c, s.experiment(), s.cumulativeAlphaSpent(), now);
         }
         return fresh;
     }
