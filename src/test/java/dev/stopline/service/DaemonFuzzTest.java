@@ -134,13 +134,16 @@ class DaemonFuzzTest {
     @Test
     void emptyOversizedAndBinaryPlanDocuments_areRefusedWith4xx_andTheDaemonStaysReady() {
         String base = Counts.plan("fuzz-sizes");            // valid: only its size is wrong below
-        // PlanParser.MAX_BYTES is 64 KiB; quarkus.http.limits.max-body-size is 256 KiB (application.properties)
+        // PlanParser.MAX_BYTES is 64 KiB (a 70 KiB plan gets 422 with the problem); quarkus.http.limits.max-body-size
+        // is 256 KiB (application.properties)
         String comment = "# " + "x".repeat(1000) + "\n";
         Map<String, byte[]> docs = new TreeMap<>();
         docs.put("empty", new byte[0]);
         docs.put("only a comment", "# nothing here\n".getBytes(StandardCharsets.UTF_8));
         docs.put("70 KiB", (base + comment.repeat(70)).getBytes(StandardCharsets.UTF_8));
-        docs.put("300 KiB", (base + comment.repeat(300)).getBytes(StandardCharsets.UTF_8));
+        // A body over the 256 KiB limit is refused with 413 before it is read, and the connection closed while
+        // an HTTP client may still be writing (a broken pipe here, once in a few runs): that case is
+        // DaemonPlanLifecycleTest.oversizedRequest_isRefusedBeforeItIsRead, on a raw socket.
         docs.put("binary", new byte[] {0, (byte) 0xff, (byte) 0xfe, 1, 2, 3, 0x7f, (byte) 0x80});
         docs.put("deep nesting", ("a: " + "[".repeat(5000)).getBytes(StandardCharsets.UTF_8));
         for (Map.Entry<String, byte[]> d : docs.entrySet()) {
@@ -148,12 +151,8 @@ class DaemonFuzzTest {
                 Response r = given().auth().oauth2(KafkaTestResource.API_TOKEN).contentType(type).body(d.getValue())
                         .when().post("/api/plans");
                 String shown = d.getKey() + " as " + type + " answered " + r.statusCode() + ": " + r.asString();
-                if (d.getKey().equals("300 KiB")) {
-                    assertEquals(413, r.statusCode(), shown);               // refused before it is read
-                } else {
-                    assertEquals(422, r.statusCode(), shown);
-                    assertTrue(r.jsonPath().getList("problems").size() > 0, shown);
-                }
+                assertEquals(422, r.statusCode(), shown);
+                assertTrue(r.jsonPath().getList("problems").size() > 0, shown);
             }
         }
         given().when().get("/q/health/ready").then().statusCode(200);
