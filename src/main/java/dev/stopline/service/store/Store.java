@@ -496,6 +496,15 @@ public class Store {
                 ps -> ps.setString(1, experimentId), rs -> Json.read(rs.getString(1), LookRecord.class));
     }
 
+    /** The looks of one role ({@link LookRecord#PRIMARY} or {@link LookRecord#GUARDRAIL}) of an experiment, oldest first. */
+    public List<LookRecord> looks(String experimentId, String role) {
+        return query("SELECT record_json FROM look WHERE experiment_id = ? AND role = ? ORDER BY sequence, metric",
+                ps -> {
+                    ps.setString(1, experimentId);
+                    ps.setString(2, role);
+                }, rs -> Json.read(rs.getString(1), LookRecord.class));
+    }
+
     /**
      * Looks of an experiment from sequence {@code fromSequence} on, oldest first, at most {@code limit}
      * sequences' worth (all looks of the last sequence included), for paging through long histories (an

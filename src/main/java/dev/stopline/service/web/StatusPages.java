@@ -55,7 +55,7 @@ public final class StatusPages {
      *
      * @param detail      the API detail (summary, planned boundaries, latest look per metric, units)
      * @param plan        the plan as parsed
-     * @param looks       every stored look, oldest first
+     * @param looks       the primary's looks, oldest first (other looks are ignored: the detail holds the latest)
      * @param sampleRatio the sample-ratio check of the last snapshot, or null before the first
      * @param alerts      alerts, newest first
      * @param audit       the audit trail, oldest first

@@ -71,18 +71,21 @@ public class StatusResource {
         Store.StoredPlan p = stored.get();
         ExperimentMonitor m = plans.monitor(id);
         Store.StoredState st = store.state(id).orElse(null);
-        List<LookRecord> looks = store.looks(id);
+        // the primary's history for the chart and the ledger, the latest look per metric for the rest: a
+        // guardrail's history (a row per snapshot) is not read for a page that shows its latest look only
+        List<LookRecord> primary = store.looks(id, LookRecord.PRIMARY);
+        List<LookRecord> latest = store.latestLooks(id);
         List<StatusPages.AlertItem> alerts = new ArrayList<>();
         long open = 0;
         for (Store.StoredAlert a : store.alerts(id, ALERT_LIMIT)) {
             alerts.add(new StatusPages.AlertItem(a, store.deliveries(a.alert().id())));
             open += a.acknowledgedAt() == null ? 1 : 0;
         }
-        ExperimentView.Summary s = ExperimentView.summary(p, m, st, looks, open);
-        ExperimentView.Detail detail = ExperimentView.detail(s, p, m, st, looks);
+        ExperimentView.Summary s = ExperimentView.summary(p, m, st, latest, open);
+        ExperimentView.Detail detail = ExperimentView.detail(s, p, m, st, latest);
         SampleRatioRecord srm = m == null || st == null || st.state().lastSnapshot() == null ? null
                 : m.checkSampleRatio(st.state().lastSnapshot());
-        StatusPages.ExperimentPage page = new StatusPages.ExperimentPage(detail, plan(p, m), looks, srm, alerts,
+        StatusPages.ExperimentPage page = new StatusPages.ExperimentPage(detail, plan(p, m), primary, srm, alerts,
                 store.audit(id), clock.instant());
         return Response.ok(StatusPages.experiment(page), HTML).build();
     }

@@ -107,6 +107,8 @@ abstract class StoreContractTest {
         assertEquals(List.of(1L, 2L, 3L), sequences(store.looks(id, 0, 3)));
         assertEquals(List.of(), sequences(store.looks(id, 4, 10)));
         assertEquals(List.of(), store.latestLooks("store-nobody"));
+        assertEquals(List.of(1L, 2L, 3L), sequences(store.looks(id, LookRecord.PRIMARY)));
+        assertEquals(List.of(), sequences(store.looks(id, LookRecord.GUARDRAIL)));
     }
 
     private static List<Long> sequences(List<LookRecord> looks) {
