@@ -176,7 +176,7 @@ public class Store {
     public List<Alert> commitEvaluation(Evaluation e, String status, Position position, List<String> channels,
                                         Instant now) {
         return inTransaction(c -> {
-            upsertState(c, e.state(), status, position, now);
+            upsertStates(c, List.of(Change.evaluated(e, status, position)), now);
             return writeEvaluation(c, e, channels, now);
         });
     }
@@ -371,26 +371,6 @@ public class Store {
         }
     }
 
-    /** Advances only the position and last snapshot (a duplicate, or a snapshot with nothing to evaluate). */
-    private static void upsertState(Connection c, MonitorState s, String status, Position position, Instant now)
-            throws SQLException {
-        String json = Json.write(s);
-        try (PreparedStatement ps = c.prepareStatement("UPDATE monitor_state SET last_sequence = ?, source_partition = ?, "
-                + "source_offset = ?, status = ?, state_json = ?, updated_at = ? WHERE experiment_id = ?")) {
-            bindState(ps, s, status, position, json, now);
-            ps.setString(7, s.experiment());
-            if (ps.executeUpdate() == 1) {
-                return;
-            }
-        }
-        try (PreparedStatement ps = c.prepareStatement("INSERT INTO monitor_state (last_sequence, source_partition, "
-                + "source_offset, status, state_json, updated_at, experiment_id) VALUES (?, ?, ?, ?, ?, ?, ?)")) {
-            bindState(ps, s, status, position, json, now);
-            ps.setString(7, s.experiment());
-            ps.executeUpdate();
-        }
-    }
-
     private static void bindState(PreparedStatement ps, MonitorState s, String status, Position position, String json,
                                   Instant now) throws SQLException {
         ps.setLong(1, s.lastSequence());
@@ -472,21 +452,9 @@ public class Store {
     /** Records that a record was seen again (duplicate) without changing the evaluation. */
     public void advancePosition(String experimentId, Position position, Instant now) {
         inTransaction(c -> {
-            updatePosition(c, experimentId, position, now);
+            updatePositions(c, List.of(Map.entry(experimentId, position)), now);
             return null;
         });
-    }
-
-    private static void updatePosition(Connection c, String experimentId, Position position, Instant now)
-            throws SQLException {
-        try (PreparedStatement ps = c.prepareStatement("UPDATE monitor_state SET source_partition = ?, "
-                + "source_offset = ?, updated_at = ? WHERE experiment_id = ?")) {
-            ps.setObject(1, position.partition(), java.sql.Types.INTEGER);
-            ps.setObject(2, position.offset(), java.sql.Types.BIGINT);
-            ps.setTimestamp(3, Timestamp.from(now));
-            ps.setString(4, experimentId);
-            ps.executeUpdate();
-        }
     }
 
     // ------------------------------------------------------------------ looks and alerts
