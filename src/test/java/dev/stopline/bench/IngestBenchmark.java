@@ -256,16 +256,22 @@ public final class IngestBenchmark {
         List<ProducerRecord<String, String>> records = new ArrayList<>(experiments * n);
         for (int k = first; k < first + n; k++) {
             for (int i = 0; i < experiments; i++) {
-                long[] c = cumulative[i];
-                c[0] += 95 + random.nextInt(11);
-                c[1] += random.nextInt(21);
-                c[2] += 95 + random.nextInt(11);
-                c[3] += random.nextInt(21);
-                records.add(new ProducerRecord<>(COUNTS, tpId(i),
-                        Counts.proportion(tpId(i), k, "orders", c[0], c[1], c[2], c[3])));
+                records.add(new ProducerRecord<>(COUNTS, tpId(i), nextSnapshot(tpId(i), k, cumulative[i], random)));
             }
         }
         return records;
+    }
+
+    /**
+     * The next snapshot of an experiment at a 50/50 split: about 100 more units per arm and 0 to 20 more
+     * orders each (about 10 %), added to {@code c} (control units, orders, treatment units, orders).
+     */
+    private static String nextSnapshot(String id, long sequence, long[] c, SplittableRandom random) {
+        c[0] += 95 + random.nextInt(11);
+        c[1] += random.nextInt(21);
+        c[2] += 95 + random.nextInt(11);
+        c[3] += random.nextInt(21);
+        return Counts.proportion(id, sequence, "orders", c[0], c[1], c[2], c[3]);
     }
 
     private static void sendAll(KafkaProducer<String, String> producer, List<ProducerRecord<String, String>> records) {
@@ -404,13 +410,8 @@ public final class IngestBenchmark {
                     long due = (System.nanoTime() - t0) * perSecond / 1_000_000_000L;
                     for (; sent < due; sent++) {
                         int i = (int) (sent % TRAFFIC_EXPERIMENTS);
-                        long[] c = cumulative[i];
-                        c[0] += 95 + random.nextInt(11);
-                        c[1] += random.nextInt(21);
-                        c[2] += 95 + random.nextInt(11);
-                        c[3] += random.nextInt(21);
                         producer.send(new ProducerRecord<>(COUNTS, trafficId(i),
-                                Counts.proportion(trafficId(i), ++sequence[i], "orders", c[0], c[1], c[2], c[3])));
+                                nextSnapshot(trafficId(i), ++sequence[i], cumulative[i], random)));
                     }
                     LockSupport.parkNanos(10_000_000L);
                 }
