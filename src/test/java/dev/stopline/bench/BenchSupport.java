@@ -174,6 +174,25 @@ final class BenchSupport {
 
     // ------------------------------------------------------------------ Kafka
 
+    /**
+     * A string consumer of partition 0 of {@code topic}, positioned at its current end, without a group
+     * (nothing committed) and with short fetch waits: a reader that timestamps arrivals.
+     */
+    static KafkaConsumer<String, String> atEnd(String servers, String topic) {
+        Properties p = new Properties();
+        p.put("bootstrap.servers", servers);
+        p.put("key.deserializer", StringDeserializer.class.getName());
+        p.put("value.deserializer", StringDeserializer.class.getName());
+        p.put("enable.auto.commit", "false");
+        p.put("fetch.max.wait.ms", "100");
+        KafkaConsumer<String, String> c = new KafkaConsumer<>(p);
+        TopicPartition tp = new TopicPartition(topic, 0);
+        c.assign(List.of(tp));
+        c.seekToEnd(List.of(tp));
+        c.position(tp, Duration.ofSeconds(30));
+        return c;
+    }
+
     static KafkaProducer<String, String> producer(String servers, int lingerMs) {
         Properties p = new Properties();
         p.put("bootstrap.servers", servers);
@@ -234,17 +253,7 @@ final class BenchSupport {
         }
 
         static TopicReader start(String servers, String topic) {
-            Properties p = new Properties();
-            p.put("bootstrap.servers", servers);
-            p.put("key.deserializer", StringDeserializer.class.getName());
-            p.put("value.deserializer", StringDeserializer.class.getName());
-            p.put("enable.auto.commit", "false");
-            p.put("fetch.max.wait.ms", "100");
-            KafkaConsumer<String, String> c = new KafkaConsumer<>(p);
-            TopicPartition tp = new TopicPartition(topic, 0);
-            c.assign(List.of(tp));
-            c.seekToEnd(List.of(tp));
-            c.position(tp, Duration.ofSeconds(30));
+            KafkaConsumer<String, String> c = atEnd(servers, topic);
             TopicReader[] self = new TopicReader[1];
             Thread t = new Thread(() -> {
                 try (c) {

@@ -467,18 +467,8 @@ public final class IngestBenchmark {
 
     /** Reads the alert topic from its current end and queues each record's key with its arrival time. */
     private static Thread alertReader(String servers, BlockingQueue<Arrival> out, AtomicBoolean stop) {
-        Properties p = new Properties();
-        p.put("bootstrap.servers", servers);
-        p.put("key.deserializer", StringDeserializer.class.getName());
-        p.put("value.deserializer", StringDeserializer.class.getName());
-        p.put("enable.auto.commit", "false");
-        p.put("fetch.max.wait.ms", "100");
         Thread t = new Thread(() -> {
-            TopicPartition tp = new TopicPartition(ALERTS, 0);
-            try (KafkaConsumer<String, String> c = new KafkaConsumer<>(p)) {
-                c.assign(List.of(tp));
-                c.seekToEnd(List.of(tp));
-                c.position(tp);
+            try (KafkaConsumer<String, String> c = BenchSupport.atEnd(servers, ALERTS)) {
                 while (!stop.get()) {
                     ConsumerRecords<String, String> records = c.poll(Duration.ofMillis(50));
                     long now = System.nanoTime();
