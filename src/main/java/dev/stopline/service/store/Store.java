@@ -576,17 +576,12 @@ public class Store {
 
     /** Every switched-off endpoint, by URL. */
     public Map<String, DisabledWebhook> disabledWebhooks() {
-        return inTransaction(c -> {
-            Map<String, DisabledWebhook> out = new java.util.TreeMap<>();
-            try (PreparedStatement ps = c.prepareStatement("SELECT url, disabled_at, reason FROM webhook_disabled");
-                 ResultSet rs = ps.executeQuery()) {
-                while (rs.next()) {
-                    out.put(rs.getString(1), new DisabledWebhook(rs.getString(1), rs.getTimestamp(2).toInstant(),
-                            rs.getString(3)));
-                }
-            }
-            return out;
-        });
+        Map<String, DisabledWebhook> out = new java.util.TreeMap<>();
+        for (DisabledWebhook d : query("SELECT url, disabled_at, reason FROM webhook_disabled", ps -> { },
+                rs -> new DisabledWebhook(rs.getString(1), rs.getTimestamp(2).toInstant(), rs.getString(3)))) {
+            out.put(d.url(), d);
+        }
+        return out;
     }
 
     // ------------------------------------------------------------------ outbox
