@@ -35,14 +35,11 @@ import java.util.ArrayList;
 import java.util.HashMap;
 import java.util.List;
 import java.util.Map;
-import java.util.Properties;
 import java.util.SplittableRandom;
 import java.util.TreeMap;
 import org.apache.kafka.clients.consumer.ConsumerRecord;
 import org.apache.kafka.clients.producer.KafkaProducer;
 import org.apache.kafka.clients.producer.ProducerRecord;
-import org.apache.kafka.common.serialization.ByteArraySerializer;
-import org.apache.kafka.common.serialization.StringSerializer;
 import org.junit.jupiter.api.Test;
 import org.junit.jupiter.api.TestReporter;
 
@@ -342,12 +339,7 @@ class DaemonFuzzTest {
     }
 
     private static void send(List<Sent> records) {
-        Properties p = new Properties();
-        p.put("bootstrap.servers", KafkaBrokerExtension.bootstrapServers());
-        p.put("key.serializer", StringSerializer.class.getName());
-        p.put("value.serializer", ByteArraySerializer.class.getName());
-        p.put("acks", "all");
-        try (KafkaProducer<String, byte[]> producer = new KafkaProducer<>(p)) {
+        try (KafkaProducer<String, byte[]> producer = TestKafka.bytesProducer(KafkaBrokerExtension.bootstrapServers())) {
             List<java.util.concurrent.Future<?>> acks = new ArrayList<>();
             for (Sent s : records) {
                 // the shared topic has one partition: the daemon reads the records in the order they are sent

@@ -30,14 +30,19 @@ public final class TestKafka {
         return new KafkaProducer<>(p);
     }
 
-    /** Sends records synchronously (each acknowledged by the broker before the next). */
-    public static void send(String topic, String key, byte[]... values) {
+    /** A producer of string keys and raw byte values to {@code servers}, every send acknowledged by all replicas. */
+    public static KafkaProducer<String, byte[]> bytesProducer(String servers) {
         Properties p = new Properties();
-        p.put("bootstrap.servers", KafkaBrokerExtension.bootstrapServers());
+        p.put("bootstrap.servers", servers);
         p.put("key.serializer", StringSerializer.class.getName());
         p.put("value.serializer", ByteArraySerializer.class.getName());
         p.put("acks", "all");
-        try (KafkaProducer<String, byte[]> producer = new KafkaProducer<>(p)) {
+        return new KafkaProducer<>(p);
+    }
+
+    /** Sends records synchronously (each acknowledged by the broker before the next). */
+    public static void send(String topic, String key, byte[]... values) {
+        try (KafkaProducer<String, byte[]> producer = bytesProducer(KafkaBrokerExtension.bootstrapServers())) {
             for (byte[] v : values) {
                 producer.send(new ProducerRecord<>(topic, key, v)).get();
             }
